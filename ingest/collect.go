@@ -1,0 +1,375 @@
+package ingest
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+)
+
+// ReadTable reads a whole table from r: NewRecordReader followed by Collect.
+func ReadTable(name string, r io.Reader, opts ReadOptions) (*Table, error) {
+	rr, err := NewRecordReader(name, r, opts)
+	if err != nil {
+		return nil, err
+	}
+	defer rr.Release()
+	return Collect(name, rr, opts)
+}
+
+// Collect reads every batch of rr into a Table, inferring column kinds from
+// the values (opts.Kinds overrides them). Text columns whose values all parse
+// as numbers are numeric; all true/false are boolean; the rest categorical.
+// A column that is mostly numbers with a stray word is an error naming the
+// cell, not a silent switch to categorical.
+func Collect(name string, rr array.RecordReader, opts ReadOptions) (*Table, error) {
+	schema := rr.Schema()
+	builders := make([]*columnBuilder, schema.NumFields())
+	seen := make(map[string]int, len(builders))
+	for i, f := range schema.Fields() {
+		if f.Name == "" {
+			return nil, &DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column has no name; give every column a name in the header")}
+		}
+		if j, dup := seen[f.Name]; dup {
+			return nil, &DataError{File: name, Line: 1, Column: i + 1, Name: f.Name,
+				Err: fmt.Errorf("the column name is also used by column %d; column names must be unique", j+1)}
+		}
+		seen[f.Name] = i
+		builders[i] = &columnBuilder{name: f.Name, index: i + 1}
+	}
+	for col := range opts.Kinds {
+		if _, ok := seen[col]; !ok {
+			return nil, &DataError{File: name, Name: col, Err: errors.New("a kind is given for this column but the input has no such column")}
+		}
+	}
+	rows := 0
+	for rr.Next() {
+		rec := rr.RecordBatch()
+		for i, b := range builders {
+			if err := b.append(rec.Column(i), rows); err != nil {
+				err.File = name
+				return nil, err
+			}
+		}
+		rows += int(rec.NumRows())
+	}
+	if err := rr.Err(); err != nil {
+		return nil, readError(name, rows, err)
+	}
+	if rows == 0 {
+		return nil, &DataError{File: name, Err: ErrNoRows}
+	}
+	t := &Table{Name: name, Rows: rows, Columns: make([]*Column, len(builders))}
+	for i, b := range builders {
+		kind, declared := opts.Kinds[b.name]
+		col, err := b.finish(kind, declared)
+		if err != nil {
+			err.File = name
+			return nil, err
+		}
+		t.Columns[i] = col
+	}
+	return t, nil
+}
+
+// readError places a reader's error at the row that follows the last one read.
+func readError(name string, rows int, err error) *DataError {
+	de := &DataError{File: name, Row: rows + 1, Err: err}
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		de.Line = pe.Line
+		switch {
+		case errors.Is(pe.Err, csv.ErrFieldCount):
+			de.Err = errors.New("the row has a different number of fields than the header; check the delimiter and quoting")
+		case errors.Is(pe.Err, csv.ErrQuote), errors.Is(pe.Err, csv.ErrBareQuote):
+			de.Err = fmt.Errorf("%v (at line %d); close the quote or double a quote inside a quoted field", pe.Err, pe.Line)
+		default:
+			de.Err = pe.Err
+		}
+		return de
+	}
+	if errors.Is(err, io.ErrUnexpectedEOF) {
+		de.Err = errors.New("the input ends in the middle of a record; is the file truncated?")
+	}
+	return de
+}
+
+// columnBuilder gathers one column's cells across batches.
+type columnBuilder struct {
+	name    string
+	index   int // 1-based
+	numeric bool
+	boolean bool
+	text    []string
+	numbers []float64
+	missing []bool
+	any     bool // a cell has been appended, fixing the storage type
+}
+
+func (b *columnBuilder) fail(row int, err error) *DataError {
+	return &DataError{Row: row, Column: b.index, Name: b.name, Err: err}
+}
+
+func (b *columnBuilder) setStorage(numeric, boolean bool) *DataError {
+	if b.any && (b.numeric != numeric || b.boolean != boolean) {
+		return b.fail(0, errors.New("the column changes type between record batches"))
+	}
+	b.any, b.numeric, b.boolean = true, numeric, boolean
+	return nil
+}
+
+func (b *columnBuilder) append(arr arrow.Array, rowBase int) *DataError {
+	n := arr.Len()
+	for i := 0; i < n; i++ {
+		b.missing = append(b.missing, arr.IsNull(i))
+	}
+	switch a := arr.(type) {
+	case *array.String:
+		if err := b.setStorage(false, false); err != nil {
+			return err
+		}
+		for i := 0; i < n; i++ {
+			if err := b.appendText(a.Value(i), rowBase+i+1); err != nil {
+				return err
+			}
+		}
+	case *array.LargeString:
+		if err := b.setStorage(false, false); err != nil {
+			return err
+		}
+		for i := 0; i < n; i++ {
+			if err := b.appendText(a.Value(i), rowBase+i+1); err != nil {
+				return err
+			}
+		}
+	case *array.Dictionary:
+		if err := b.setStorage(false, false); err != nil {
+			return err
+		}
+		for i := 0; i < n; i++ {
+			v := ""
+			if !a.IsNull(i) {
+				v = a.ValueStr(i)
+			}
+			if err := b.appendText(v, rowBase+i+1); err != nil {
+				return err
+			}
+		}
+	case *array.Boolean:
+		if err := b.setStorage(false, true); err != nil {
+			return err
+		}
+		for i := 0; i < n; i++ {
+			v := 0.0
+			if !a.IsNull(i) && a.Value(i) {
+				v = 1
+			}
+			b.numbers = append(b.numbers, v)
+		}
+	default:
+		get, ok := numberGetter(arr)
+		if !ok {
+			return b.fail(0, fmt.Errorf("%w: Arrow type %s; convert the column to numbers, text or booleans", ErrUnsupported, arr.DataType()))
+		}
+		if err := b.setStorage(true, false); err != nil {
+			return err
+		}
+		for i := 0; i < n; i++ {
+			v := 0.0
+			if !arr.IsNull(i) {
+				v = get(i)
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					return b.fail(rowBase+i+1, fmt.Errorf("%v is not a finite number; store a null for a missing value", v))
+				}
+			}
+			b.numbers = append(b.numbers, v)
+		}
+	}
+	return nil
+}
+
+func (b *columnBuilder) appendText(v string, row int) *DataError {
+	if !utf8.ValidString(v) {
+		return b.fail(row, errors.New("the cell is not valid UTF-8 text; re-save the file as UTF-8"))
+	}
+	b.text = append(b.text, v)
+	return nil
+}
+
+func numberGetter(arr arrow.Array) (func(int) float64, bool) {
+	switch a := arr.(type) {
+	case *array.Float64:
+		return a.Value, true
+	case *array.Float32:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Float16:
+		return func(i int) float64 { return float64(a.Value(i).Float32()) }, true
+	case *array.Int64:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Int32:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Int16:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Int8:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Uint64:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Uint32:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Uint16:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	case *array.Uint8:
+		return func(i int) float64 { return float64(a.Value(i)) }, true
+	}
+	return nil, false
+}
+
+// finish turns the gathered cells into a Column of the declared or inferred kind.
+func (b *columnBuilder) finish(kind Kind, declared bool) (*Column, *DataError) {
+	col := &Column{Name: b.name}
+	if anyTrue(b.missing) {
+		col.Missing = b.missing
+	}
+	switch {
+	case b.numeric || b.boolean:
+		col.Kind = Numeric
+		if b.boolean {
+			col.Kind = Boolean
+		}
+		col.Numbers = b.numbers
+		if declared && kind != col.Kind {
+			if kind != Categorical {
+				return nil, b.fail(0, fmt.Errorf("a %s Arrow column cannot be read as %s", col.Kind, kind))
+			}
+			col.Text = make([]string, len(b.numbers))
+			for i := range b.numbers {
+				col.Text[i] = col.Value(i)
+			}
+			col.Kind, col.Numbers = Categorical, nil
+		}
+		return col, nil
+	}
+	if !declared {
+		kind = b.inferKind()
+	}
+	col.Kind = kind
+	switch kind {
+	case Categorical:
+		col.Text = b.text
+		return col, nil
+	case Boolean:
+		col.Numbers = make([]float64, len(b.text))
+		for i, v := range b.text {
+			if col.IsMissing(i) {
+				continue
+			}
+			t, ok := parseBool(v)
+			if !ok {
+				return nil, b.fail(i+1, fmt.Errorf("%q is not true or false in boolean column %s", v, b.name))
+			}
+			if t {
+				col.Numbers[i] = 1
+			}
+		}
+		return col, nil
+	}
+	col.Numbers = make([]float64, len(b.text))
+	numbers := b.numberCount()
+	for i, v := range b.text {
+		if col.IsMissing(i) {
+			continue
+		}
+		x, err := parseNumber(v)
+		if err != nil {
+			if !declared {
+				err = fmt.Errorf("%w, though %d of the column's %d values are numbers; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical",
+					err, numbers, len(b.text)-countTrue(b.missing))
+			}
+			return nil, b.fail(i+1, err)
+		}
+		col.Numbers[i] = x
+	}
+	return col, nil
+}
+
+// inferKind looks at every present value. A column that is mostly numbers
+// is inferred numeric so that a stray word is reported rather than hidden.
+func (b *columnBuilder) inferKind() Kind {
+	present, bools := 0, 0
+	for i, v := range b.text {
+		if b.missing[i] {
+			continue
+		}
+		present++
+		if _, ok := parseBool(v); ok {
+			bools++
+		}
+	}
+	switch {
+	case present == 0:
+		return Categorical
+	case bools == present:
+		return Boolean
+	case 2*b.numberCount() > present:
+		return Numeric
+	}
+	return Categorical
+}
+
+// numberCount counts present cells that read as numbers, finite or not.
+func (b *columnBuilder) numberCount() int {
+	n := 0
+	for i, v := range b.text {
+		if b.missing[i] {
+			continue
+		}
+		if _, err := strconv.ParseFloat(strings.TrimSpace(v), 64); err == nil || errors.Is(err, strconv.ErrRange) {
+			n++
+		}
+	}
+	return n
+}
+
+// parseNumber reads a finite float64. NaN, infinities and out-of-range
+// values are errors: a missing value is written as an empty cell or NA.
+func parseNumber(v string) (float64, error) {
+	x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
+	switch {
+	case errors.Is(err, strconv.ErrRange):
+		return 0, fmt.Errorf("%q is outside the range of a 64-bit float", v)
+	case err != nil:
+		return 0, fmt.Errorf("%q is not a number", v)
+	case math.IsNaN(x) || math.IsInf(x, 0):
+		return 0, fmt.Errorf("%q is not a finite number; leave the cell empty or write NA if it is missing", v)
+	}
+	return x, nil
+}
+
+func parseBool(v string) (bool, bool) {
+	switch strings.ToLower(strings.TrimSpace(v)) {
+	case "true":
+		return true, true
+	case "false":
+		return false, true
+	}
+	return false, false
+}
+
+func anyTrue(bs []bool) bool { return countTrue(bs) > 0 }
+
+func countTrue(bs []bool) int {
+	n := 0
+	for _, b := range bs {
+		if b {
+			n++
+		}
+	}
+	return n
+}

@@ -1,0 +1,145 @@
+package ingest
+
+import (
+	"errors"
+	"fmt"
+	"slices"
+	"strconv"
+)
+
+// Dataset is a table with a chosen target column: the class of each row and
+// the feature columns a Plan encodes.
+type Dataset struct {
+	Table    *Table
+	Target   string
+	Labels   []string  // class labels, sorted (numerically when all are numbers)
+	Classes  []int     // class index of each row, into Labels
+	Features []*Column // every column but the target and the ignored ones, in table order
+}
+
+// NewDataset picks the target column and the features of t. Every row must
+// have a target value, and there must be at least two classes.
+func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
+	col := t.Column(target)
+	if col == nil {
+		return nil, &DataError{File: t.Name, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s", columnList(t))}
+	}
+	for _, name := range ignore {
+		if name == target {
+			return nil, &DataError{File: t.Name, Name: name, Err: errors.New("the target column cannot also be ignored")}
+		}
+		if t.Column(name) == nil {
+			return nil, &DataError{File: t.Name, Name: name, Err: fmt.Errorf("there is no column of that name to ignore; the columns are %s", columnList(t))}
+		}
+	}
+	labels, classes, err := targetClasses(t, col)
+	if err != nil {
+		return nil, err
+	}
+	if len(labels) < 2 {
+		return nil, &DataError{File: t.Name, Column: t.columnIndex(target) + 1, Name: target,
+			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", labels[0])}
+	}
+	d := &Dataset{Table: t, Target: target, Labels: labels, Classes: classes}
+	for _, c := range t.Columns {
+		if c == col || slices.Contains(ignore, c.Name) {
+			continue
+		}
+		d.Features = append(d.Features, c)
+	}
+	return d, nil
+}
+
+// TargetClasses maps the target column of t to class indices of known
+// labels, as when a saved model scores labelled data. A label the model
+// does not know is an error naming the row.
+func TargetClasses(t *Table, target string, labels []string) ([]int, error) {
+	col := t.Column(target)
+	if col == nil {
+		return nil, &DataError{File: t.Name, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s", columnList(t))}
+	}
+	index := make(map[string]int, len(labels))
+	for i, l := range labels {
+		index[l] = i
+	}
+	classes := make([]int, t.Rows)
+	for i := range classes {
+		if col.IsMissing(i) {
+			return nil, missingTarget(t, col, i)
+		}
+		k, ok := index[col.Value(i)]
+		if !ok {
+			return nil, &DataError{File: t.Name, Row: i + 1, Column: t.columnIndex(target) + 1, Name: target,
+				Err: fmt.Errorf("class %q is not one the model was trained on (%s)", col.Value(i), quoteList(labels))}
+		}
+		classes[i] = k
+	}
+	return classes, nil
+}
+
+func targetClasses(t *Table, col *Column) ([]string, []int, error) {
+	seen := map[string]bool{}
+	for i := 0; i < t.Rows; i++ {
+		if col.IsMissing(i) {
+			return nil, nil, missingTarget(t, col, i)
+		}
+		seen[col.Value(i)] = true
+	}
+	labels := make([]string, 0, len(seen))
+	for l := range seen {
+		labels = append(labels, l)
+	}
+	sortLabels(labels)
+	classes, err := TargetClasses(t, col.Name, labels)
+	return labels, classes, err
+}
+
+func missingTarget(t *Table, col *Column, row int) error {
+	return &DataError{File: t.Name, Row: row + 1, Column: t.columnIndex(col.Name) + 1, Name: col.Name,
+		Err: errors.New("the target cell is missing; every row needs a class (drop the row or fill it in)")}
+}
+
+// sortLabels sorts numerically when every label is a number, else as text.
+func sortLabels(labels []string) {
+	numbers := make(map[string]float64, len(labels))
+	for _, l := range labels {
+		x, err := strconv.ParseFloat(l, 64)
+		if err != nil {
+			slices.Sort(labels)
+			return
+		}
+		numbers[l] = x
+	}
+	slices.SortFunc(labels, func(a, b string) int {
+		switch {
+		case numbers[a] < numbers[b]:
+			return -1
+		case numbers[a] > numbers[b]:
+			return 1
+		}
+		return 0
+	})
+}
+
+func columnList(t *Table) string {
+	names := make([]string, len(t.Columns))
+	for i, c := range t.Columns {
+		names[i] = c.Name
+	}
+	return quoteList(names)
+}
+
+func quoteList(names []string) string {
+	const most = 12
+	s := ""
+	for i, n := range names {
+		if i == most {
+			return s + fmt.Sprintf(", … (%d in all)", len(names))
+		}
+		if i > 0 {
+			s += ", "
+		}
+		s += strconv.Quote(n)
+	}
+	return s
+}

@@ -1,0 +1,471 @@
+package ingest
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+	"sort"
+	"strconv"
+	"strings"
+)
+
+// Numeric encodings.
+const (
+	Thermometer = "thermometer" // K quantile bins; unit k is on when x is above the k-th cut
+	OneHotBins  = "onehot"      // K quantile bins; exactly one unit on
+	Threshold   = "threshold"   // one unit, on when x is above a cut (default: training median)
+	ZScore      = "zscore"      // (x − mean)/sd, continuous and not bounded to [0,1]
+	MinMax      = "minmax"      // (x − min)/(max − min), clipped to [0,1]
+)
+
+// Categorical and boolean encodings.
+const (
+	OneHot = "onehot" // one unit per category seen at least MIN times, plus an "other" unit
+	Flag   = "flag"   // boolean: one unit, on for true
+)
+
+// Defaults and caps of the encodings.
+const (
+	DefaultBins   = 8
+	MaxBins       = 256
+	MaxCategories = 1000 // per categorical column, after dropping rare values
+)
+
+// Encoding is a parsed encoding choice such as "thermometer:8" or "onehot:5".
+type Encoding struct {
+	Method string
+	Bins   int      // thermometer and onehot bins
+	Cut    *float64 // threshold; nil means the training median
+	Min    int      // categorical onehot: least count for a category to get its own unit
+}
+
+// ParseNumericEncoding parses thermometer[:K], onehot[:K], threshold[:V],
+// zscore or minmax.
+func ParseNumericEncoding(s string) (Encoding, error) {
+	method, arg, hasArg := strings.Cut(s, ":")
+	e := Encoding{Method: method}
+	switch method {
+	case Thermometer, OneHotBins:
+		e.Bins = DefaultBins
+		if hasArg {
+			k, err := strconv.Atoi(arg)
+			if err != nil || k < 2 || k > MaxBins {
+				return e, fmt.Errorf("ingest: numeric encoding %q: bins must be a whole number from 2 to %d", s, MaxBins)
+			}
+			e.Bins = k
+		}
+	case Threshold:
+		if hasArg {
+			v, err := strconv.ParseFloat(arg, 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+				return e, fmt.Errorf("ingest: numeric encoding %q: the threshold must be a finite number", s)
+			}
+			e.Cut = &v
+		}
+	case ZScore, MinMax:
+		if hasArg {
+			return e, fmt.Errorf("ingest: numeric encoding %q takes no argument", s)
+		}
+	default:
+		return e, fmt.Errorf("ingest: unknown numeric encoding %q (want thermometer[:K], onehot[:K], threshold[:V], zscore or minmax)", s)
+	}
+	return e, nil
+}
+
+// ParseCategoricalEncoding parses onehot[:MIN].
+func ParseCategoricalEncoding(s string) (Encoding, error) {
+	method, arg, hasArg := strings.Cut(s, ":")
+	if method != OneHot {
+		return Encoding{}, fmt.Errorf("ingest: unknown categorical encoding %q (want onehot[:MIN])", s)
+	}
+	e := Encoding{Method: OneHot, Min: 1}
+	if hasArg {
+		k, err := strconv.Atoi(arg)
+		if err != nil || k < 1 {
+			return e, fmt.Errorf("ingest: categorical encoding %q: MIN must be a whole number of at least 1", s)
+		}
+		e.Min = k
+	}
+	return e, nil
+}
+
+// PlanOptions chooses the encodings. The zero value means thermometer:8 for
+// numeric columns and onehot:1 for categorical ones.
+type PlanOptions struct {
+	Numeric     Encoding
+	Categorical Encoding
+}
+
+func (o PlanOptions) withDefaults() PlanOptions {
+	if o.Numeric.Method == "" {
+		o.Numeric = Encoding{Method: Thermometer, Bins: DefaultBins}
+	}
+	if o.Categorical.Method == "" {
+		o.Categorical = Encoding{Method: OneHot, Min: 1}
+	}
+	return o
+}
+
+// Plan is a fitted encoding: how each feature column becomes input units.
+// It is stored in the model file, so new rows are encoded exactly as the
+// training rows were.
+type Plan struct {
+	Features []Feature `json:"features"`
+}
+
+// Feature is the fitted encoding of one column.
+type Feature struct {
+	Column     string    `json:"column"`
+	Kind       Kind      `json:"kind"`
+	Method     string    `json:"method"`
+	Cuts       []float64 `json:"cuts,omitempty"`       // thermometer, onehot bins, threshold
+	Center     float64   `json:"center,omitempty"`     // zscore mean, minmax minimum
+	Scale      float64   `json:"scale,omitempty"`      // zscore sd, minmax range; 0 for a constant column
+	Categories []string  `json:"categories,omitempty"` // categorical onehot, sorted; an "other" unit follows
+	Missing    bool      `json:"missing_unit"`         // a missing-indicator unit follows the value units
+}
+
+// Width is the number of input units of the feature.
+func (f *Feature) Width() int {
+	return f.valueUnits() + boolInt(f.Missing)
+}
+
+func (f *Feature) valueUnits() int {
+	switch f.Method {
+	case Thermometer, Threshold:
+		return len(f.Cuts)
+	case OneHotBins:
+		if f.Kind == Categorical {
+			return len(f.Categories) + 1
+		}
+		return len(f.Cuts) + 1
+	}
+	return 1 // zscore, minmax, flag
+}
+
+// UnitNames names the feature's units, for reports and exported models.
+func (f *Feature) UnitNames() []string {
+	names := make([]string, 0, f.Width())
+	switch {
+	case f.Kind == Categorical:
+		for _, c := range f.Categories {
+			names = append(names, f.Column+"="+c)
+		}
+		names = append(names, f.Column+"=(other)")
+	case f.Method == Thermometer || f.Method == Threshold:
+		for _, c := range f.Cuts {
+			names = append(names, f.Column+">"+formatCut(c))
+		}
+	case f.Method == OneHotBins:
+		lower := "-inf"
+		for _, c := range f.Cuts {
+			names = append(names, fmt.Sprintf("%s in (%s,%s]", f.Column, lower, formatCut(c)))
+			lower = formatCut(c)
+		}
+		names = append(names, fmt.Sprintf("%s in (%s,+inf)", f.Column, lower))
+	default:
+		names = append(names, f.Column+":"+f.Method)
+	}
+	if f.Missing {
+		names = append(names, f.Column+":missing")
+	}
+	return names
+}
+
+func formatCut(c float64) string { return strconv.FormatFloat(c, 'g', 6, 64) }
+
+// Width is the number of input units of the plan.
+func (p *Plan) Width() int {
+	w := 0
+	for i := range p.Features {
+		w += p.Features[i].Width()
+	}
+	return w
+}
+
+// UnitNames names every input unit, in pattern order.
+func (p *Plan) UnitNames() []string {
+	var names []string
+	for i := range p.Features {
+		names = append(names, p.Features[i].UnitNames()...)
+	}
+	return names
+}
+
+// FitPlan fits an encoding of the feature columns on the given rows only
+// (0-based; nil means all rows). Cuts, means and category lists come from
+// those rows alone.
+func FitPlan(features []*Column, rows []int, opts PlanOptions) (*Plan, error) {
+	opts = opts.withDefaults()
+	p := &Plan{Features: make([]Feature, 0, len(features))}
+	for _, col := range features {
+		if rows == nil {
+			rows = allRows(col.Len())
+		}
+		f, err := fitFeature(col, rows, opts)
+		if err != nil {
+			return nil, err
+		}
+		p.Features = append(p.Features, f)
+	}
+	return p, nil
+}
+
+func allRows(n int) []int {
+	rows := make([]int, n)
+	for i := range rows {
+		rows[i] = i
+	}
+	return rows
+}
+
+func fitFeature(col *Column, rows []int, opts PlanOptions) (Feature, error) {
+	f := Feature{Column: col.Name, Kind: col.Kind}
+	for _, r := range rows {
+		if col.IsMissing(r) {
+			f.Missing = true
+			break
+		}
+	}
+	switch col.Kind {
+	case Boolean:
+		f.Method = Flag
+	case Categorical:
+		f.Method = OneHot
+		counts := map[string]int{}
+		for _, r := range rows {
+			if !col.IsMissing(r) {
+				counts[col.Text[r]]++
+			}
+		}
+		for c, n := range counts {
+			if n >= opts.Categorical.Min {
+				f.Categories = append(f.Categories, c)
+			}
+		}
+		if len(f.Categories) > MaxCategories {
+			return f, &DataError{Name: col.Name, Err: fmt.Errorf("%d distinct values reach the least count %d, over the cap of %d per categorical column; is it an identifier to ignore, or should rare values share the other unit (a higher MIN)?",
+				len(f.Categories), opts.Categorical.Min, MaxCategories)}
+		}
+		slices.Sort(f.Categories)
+	default:
+		f.Method = opts.Numeric.Method
+		values := presentValues(col, rows)
+		switch f.Method {
+		case Thermometer, OneHotBins:
+			f.Cuts = quantileCuts(values, opts.Numeric.Bins)
+		case Threshold:
+			cut := median(values)
+			if opts.Numeric.Cut != nil {
+				cut = *opts.Numeric.Cut
+			}
+			f.Cuts = []float64{cut}
+		case ZScore:
+			f.Center, f.Scale = meanSD(values)
+		case MinMax:
+			if len(values) > 0 {
+				lo, hi := slices.Min(values), slices.Max(values)
+				f.Center, f.Scale = lo, hi-lo
+			}
+		default:
+			return f, fmt.Errorf("ingest: unknown numeric encoding %q", f.Method)
+		}
+	}
+	return f, nil
+}
+
+func presentValues(col *Column, rows []int) []float64 {
+	values := make([]float64, 0, len(rows))
+	for _, r := range rows {
+		if !col.IsMissing(r) {
+			values = append(values, col.Numbers[r])
+		}
+	}
+	return values
+}
+
+// quantileCuts returns the distinct cuts between K bins of equal count,
+// keeping only cuts that split the values (min ≤ cut < max), so that no unit
+// is constant on the training rows.
+func quantileCuts(values []float64, bins int) []float64 {
+	if len(values) == 0 {
+		return nil
+	}
+	sorted := slices.Clone(values)
+	slices.Sort(sorted)
+	lo, hi := sorted[0], sorted[len(sorted)-1]
+	var cuts []float64
+	for k := 1; k < bins; k++ {
+		c := quantile(sorted, float64(k)/float64(bins))
+		if c < lo || c >= hi || (len(cuts) > 0 && c <= cuts[len(cuts)-1]) {
+			continue
+		}
+		cuts = append(cuts, c)
+	}
+	return cuts
+}
+
+// quantile of sorted values by linear interpolation between order
+// statistics (Hyndman & Fan 1996, definition 7).
+func quantile(sorted []float64, q float64) float64 {
+	pos := q * float64(len(sorted)-1)
+	i := int(pos)
+	if i+1 >= len(sorted) {
+		return sorted[len(sorted)-1]
+	}
+	frac := pos - float64(i)
+	return sorted[i] + frac*(sorted[i+1]-sorted[i])
+}
+
+func median(values []float64) float64 {
+	if len(values) == 0 {
+		return 0
+	}
+	sorted := slices.Clone(values)
+	slices.Sort(sorted)
+	return quantile(sorted, 0.5)
+}
+
+func meanSD(values []float64) (mean, sd float64) {
+	if len(values) == 0 {
+		return 0, 0
+	}
+	for _, v := range values {
+		mean += v
+	}
+	mean /= float64(len(values))
+	if len(values) < 2 {
+		return mean, 0
+	}
+	var ss float64
+	for _, v := range values {
+		ss += (v - mean) * (v - mean)
+	}
+	return mean, math.Sqrt(ss / float64(len(values)-1))
+}
+
+func boolInt(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// Bind finds the plan's columns in t by name and checks their kinds, so the
+// plan can encode rows of a table other than the one it was fitted on.
+func (p *Plan) Bind(t *Table) ([]*Column, error) {
+	cols := make([]*Column, len(p.Features))
+	for i := range p.Features {
+		f := &p.Features[i]
+		c := t.Column(f.Column)
+		if c == nil {
+			return nil, &DataError{File: t.Name, Name: f.Column, Err: errors.New("the model needs this column but the input does not have it")}
+		}
+		if c.Kind != f.Kind {
+			return nil, &DataError{File: t.Name, Column: t.columnIndex(f.Column) + 1, Name: f.Column,
+				Err: fmt.Errorf("the column is %s here but %s in the model's training data", c.Kind, f.Kind)}
+		}
+		cols[i] = c
+	}
+	return cols, nil
+}
+
+// Kinds returns the column kinds the plan expects, for reading new data
+// with the same kinds as the training data.
+func (p *Plan) Kinds() map[string]Kind {
+	kinds := make(map[string]Kind, len(p.Features))
+	for _, f := range p.Features {
+		kinds[f.Column] = f.Kind
+	}
+	return kinds
+}
+
+// EncodeStats counts what encoding met that the plan was not fitted on.
+type EncodeStats struct {
+	// Other counts, per column, values outside the plan's category list
+	// (unseen, or too rare in training to get a unit), which go to the
+	// "other" unit.
+	Other map[string]int
+	// MissingNoUnit counts, per column, missing cells in a column whose
+	// training rows had none (encoded with every unit of the column off).
+	MissingNoUnit map[string]int
+}
+
+func (s *EncodeStats) add(m *map[string]int, col string) {
+	if *m == nil {
+		*m = map[string]int{}
+	}
+	(*m)[col]++
+}
+
+// EncodeTo writes the patterns of the given rows (0-based; nil means all)
+// into dst, row-major with Width values per row, and returns dst. cols are
+// the plan's columns as returned by Bind, or the features it was fitted on.
+// It panics if len(cols) differs from the number of features.
+func (p *Plan) EncodeTo(dst []float64, cols []*Column, rows []int) ([]float64, EncodeStats) {
+	if len(cols) != len(p.Features) {
+		panic("ingest: EncodeTo needs one column per feature")
+	}
+	if rows == nil && len(cols) > 0 {
+		rows = allRows(cols[0].Len())
+	}
+	width := p.Width()
+	dst = slices.Grow(dst[:0], len(rows)*width)[:len(rows)*width]
+	clear(dst)
+	var stats EncodeStats
+	for n, r := range rows {
+		unit := dst[n*width : (n+1)*width]
+		for i := range p.Features {
+			f := &p.Features[i]
+			w := f.Width()
+			f.encode(unit[:w], cols[i], r, &stats)
+			unit = unit[w:]
+		}
+	}
+	return dst, stats
+}
+
+// encode writes one cell into its units, which arrive zeroed.
+func (f *Feature) encode(units []float64, col *Column, row int, stats *EncodeStats) {
+	if col.IsMissing(row) {
+		if f.Missing {
+			units[len(units)-1] = 1
+		} else {
+			stats.add(&stats.MissingNoUnit, f.Column)
+		}
+		return
+	}
+	switch f.Method {
+	case Flag:
+		units[0] = col.Numbers[row]
+	case OneHot:
+		if f.Kind == Categorical {
+			v := col.Text[row]
+			i, found := slices.BinarySearch(f.Categories, v)
+			if !found {
+				i = len(f.Categories)
+				stats.add(&stats.Other, f.Column)
+			}
+			units[i] = 1
+			return
+		}
+		units[sort.SearchFloat64s(f.Cuts, col.Numbers[row])] = 1
+	case Thermometer, Threshold:
+		x := col.Numbers[row]
+		for i, c := range f.Cuts {
+			if x <= c {
+				break
+			}
+			units[i] = 1
+		}
+	case ZScore:
+		if f.Scale > 0 {
+			units[0] = (col.Numbers[row] - f.Center) / f.Scale
+		}
+	case MinMax:
+		if f.Scale > 0 {
+			units[0] = min(1, max(0, (col.Numbers[row]-f.Center)/f.Scale))
+		}
+	}
+}

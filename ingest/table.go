@@ -1,0 +1,122 @@
+package ingest
+
+import (
+	"fmt"
+	"strconv"
+)
+
+// Kind is what a column holds, which decides how a Plan encodes it.
+type Kind int
+
+const (
+	Numeric Kind = iota
+	Categorical
+	Boolean
+)
+
+var kindNames = [...]string{Numeric: "numeric", Categorical: "categorical", Boolean: "boolean"}
+
+func (k Kind) String() string {
+	if k < 0 || int(k) >= len(kindNames) {
+		return fmt.Sprintf("Kind(%d)", int(k))
+	}
+	return kindNames[k]
+}
+
+// ParseKind parses "numeric", "categorical" or "boolean".
+func ParseKind(s string) (Kind, error) {
+	for k, name := range kindNames {
+		if s == name {
+			return Kind(k), nil
+		}
+	}
+	return 0, fmt.Errorf("ingest: unknown column kind %q (want numeric, categorical or boolean)", s)
+}
+
+func (k Kind) MarshalText() ([]byte, error) { return []byte(k.String()), nil }
+
+func (k *Kind) UnmarshalText(b []byte) error {
+	parsed, err := ParseKind(string(b))
+	if err != nil {
+		return err
+	}
+	*k = parsed
+	return nil
+}
+
+// Column is one column of a Table.
+type Column struct {
+	Name string
+	Kind Kind
+	// Numbers holds the values of a Numeric column and 0/1 for a Boolean
+	// one. Missing rows hold 0.
+	Numbers []float64
+	// Text holds the values of a Categorical column. Missing rows hold "".
+	Text []string
+	// Missing marks missing cells; nil when no cell is missing.
+	Missing []bool
+}
+
+// Len is the number of rows.
+func (c *Column) Len() int {
+	if c.Kind == Categorical {
+		return len(c.Text)
+	}
+	return len(c.Numbers)
+}
+
+// IsMissing reports whether row i (0-based) is missing.
+func (c *Column) IsMissing(i int) bool { return c.Missing != nil && c.Missing[i] }
+
+// MissingCount is the number of missing cells.
+func (c *Column) MissingCount() int {
+	n := 0
+	for _, m := range c.Missing {
+		if m {
+			n++
+		}
+	}
+	return n
+}
+
+// Value formats row i (0-based) as text; missing cells are "".
+func (c *Column) Value(i int) string {
+	if c.IsMissing(i) {
+		return ""
+	}
+	switch c.Kind {
+	case Categorical:
+		return c.Text[i]
+	case Boolean:
+		return strconv.FormatBool(c.Numbers[i] != 0)
+	default:
+		return strconv.FormatFloat(c.Numbers[i], 'g', -1, 64)
+	}
+}
+
+// Table is a set of equally long named columns held in memory.
+type Table struct {
+	Name    string // where the table came from, for messages
+	Rows    int
+	Columns []*Column
+}
+
+// Column returns the column with the given name, or nil.
+func (t *Table) Column(name string) *Column {
+	for _, c := range t.Columns {
+		if c.Name == name {
+			return c
+		}
+	}
+	return nil
+}
+
+// columnIndex returns the 0-based position of a column, or -1.
+func (t *Table) columnIndex(name string) int {
+	for i, c := range t.Columns {
+		if c.Name == name {
+			return i
+		}
+	}
+	return -1
+}
