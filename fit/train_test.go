@@ -1,0 +1,320 @@
+package fit
+
+import (
+	"errors"
+	"math"
+	"slices"
+	"strings"
+	"testing"
+)
+
+// datasets are the real data sets the stability checks run on.
+func datasets(t *testing.T) []struct {
+	name       string
+	patterns   Patterns
+	classes    []int
+	numClasses int
+} {
+	rows, species := readIris(t)
+	xor, xorLabels := readTruthTable(t, "xor.csv")
+	and, andLabels := readTruthTable(t, "and.csv")
+	or, orLabels := readTruthTable(t, "or.csv")
+	return []struct {
+		name       string
+		patterns   Patterns
+		classes    []int
+		numClasses int
+	}{
+		{"iris raw", patternsOf(rows), species, 3},
+		{"iris standardized", standardized(rows), species, 3},
+		{"iris min-max setosa vs rest", minMaxed(rows), oneVsRest(species, 0), 2},
+		{"xor", xor, xorLabels, 2},
+		{"and", and, andLabels, 2},
+		{"or", or, orLabels, 2},
+	}
+}
+
+func TestRateAboveStabilityBoundDiverges(t *testing.T) {
+	for _, data := range datasets(t) {
+		for _, batch := range []bool{false, true} {
+			t.Run(data.name+map[bool]string{false: " online", true: " batch"}[batch], func(t *testing.T) {
+				_, lambdaMax, _, err := AutoRate(data.patterns, batch)
+				if err != nil {
+					t.Fatal(err)
+				}
+				// Widrow & Stearns 1985: LMS converges in the mean only for 0 < rate < 2/λmax;
+				// at ten times the bound the error along the top eigenvector grows every step.
+				rate := 10 * 2 / lambdaMax
+				result, err := Train(data.patterns, data.classes, data.numClasses,
+					Options{Unit: Linear, Rate: rate, Batch: batch, KeepGoing: true, Epochs: 1000})
+				if !errors.Is(err, ErrDiverged) {
+					t.Fatalf("err = %v, want ErrDiverged", err)
+				}
+				if result != nil {
+					t.Errorf("got a result %+v alongside ErrDiverged", result)
+				}
+				if msg := err.Error(); !strings.HasPrefix(msg, "fit: weights diverged at epoch ") || !strings.Contains(msg, "stable below 2/λmax = ") {
+					t.Errorf("message %q lacks the epoch or the bound", msg)
+				}
+			})
+		}
+	}
+}
+
+func TestAutomaticRateStable(t *testing.T) {
+	for _, data := range datasets(t) {
+		for _, opts := range []Options{
+			{Unit: Linear}, {Unit: Logistic}, {Unit: Linear, Batch: true}, {Unit: Logistic, Batch: true},
+		} {
+			name := data.name + " " + opts.Unit.String() + map[bool]string{false: " online", true: " batch"}[opts.Batch]
+			t.Run(name, func(t *testing.T) {
+				opts.KeepGoing, opts.Epochs = true, 300
+				result, err := Train(data.patterns, data.classes, data.numClasses, opts)
+				if err != nil {
+					t.Fatalf("automatic rate failed: %v", err)
+				}
+				// Widrow & Stearns 1985: stable for rate < 2/λmax; 0.5/tr(R) and 1/λmax are below it.
+				if !result.RateAuto || !(result.Rate > 0) || result.Rate >= 2/result.LambdaMax {
+					t.Errorf("rate %v (auto %v), want in (0, 2/λmax = %v)", result.Rate, result.RateAuto, 2/result.LambdaMax)
+				}
+				if err := result.Network.Validate(); err != nil {
+					t.Error(err)
+				}
+			})
+		}
+	}
+}
+
+func TestDeterminism(t *testing.T) {
+	rows, species := readIris(t)
+	patterns := standardized(rows)
+	values, labels := slices.Clone(patterns.Values), slices.Clone(species)
+	train := func(seed uint64, batch bool) *Result {
+		t.Helper()
+		result, err := Train(patterns, species, 3, Options{Seed: seed, Batch: batch, Epochs: 30, KeepGoing: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return result
+	}
+	sameWeights := func(a, b *Network) bool {
+		return slices.EqualFunc(a.Weights, b.Weights, slices.Equal) && slices.Equal(a.Biases, b.Biases)
+	}
+	t.Run("same seed, identical weights and history", func(t *testing.T) {
+		a, b := train(42, false), train(42, false)
+		if !sameWeights(a.Network, b.Network) || !slices.Equal(a.History, b.History) { // == on every float
+			t.Error("two runs with seed 42 differ")
+		}
+	})
+	t.Run("different seed, different online order", func(t *testing.T) {
+		// Per-pattern updates depend on the order, so another shuffle must change the weights.
+		if sameWeights(train(1, false).Network, train(2, false).Network) {
+			t.Error("seeds 1 and 2 gave identical online weights")
+		}
+	})
+	t.Run("batch ignores the seed", func(t *testing.T) {
+		// The batch update is a sum in pattern order: the seed must not enter.
+		if !sameWeights(train(1, true).Network, train(2, true).Network) {
+			t.Error("seeds 1 and 2 gave different batch weights")
+		}
+	})
+	t.Run("epochs visit in different orders", func(t *testing.T) {
+		tr, err := newTrainer(patterns, species, 3, Options{Seed: 5})
+		if err != nil {
+			t.Fatal(err)
+		}
+		tr.shuffle(1)
+		first := slices.Clone(tr.order)
+		tr.shuffle(2)
+		second := slices.Clone(tr.order)
+		tr.shuffle(1)
+		if slices.Equal(first, second) || !slices.Equal(first, tr.order) {
+			t.Errorf("orders of epoch 1 and 2 equal, or epoch 1 not reproduced")
+		}
+		sorted := slices.Sorted(slices.Values(first))
+		for i, v := range sorted {
+			if v != i {
+				t.Fatalf("order %v is not a permutation", first)
+			}
+		}
+	})
+	t.Run("inputs not modified", func(t *testing.T) {
+		if !slices.Equal(values, patterns.Values) || !slices.Equal(labels, species) {
+			t.Error("Train modified its inputs")
+		}
+	})
+}
+
+func TestHebbianOneEpoch(t *testing.T) {
+	rows, species := readIris(t)
+	and, andLabels := readTruthTable(t, "and.csv")
+	for _, tc := range []struct {
+		name       string
+		patterns   Patterns
+		classes    []int
+		numClasses int
+		rate       float64
+	}{
+		{"iris standardized, 3 units", standardized(rows), species, 3, 0.01},
+		{"iris raw, 3 units, automatic rate", patternsOf(rows), species, 3, 0},
+		{"AND, one unit", and, andLabels, 2, 0.25},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			result, err := Train(tc.patterns, tc.classes, tc.numClasses, Options{Rule: Hebbian{}, Rate: tc.rate, Epochs: 1, Seed: 3})
+			if err != nil {
+				t.Fatal(err)
+			}
+			net := result.Network
+			if net.Unit != Linear || net.On != 1 || net.Off != -1 || net.Rule != "hebbian" {
+				t.Errorf("network unit %v, targets %v/%v, rule %q: want linear, 1/−1, hebbian", net.Unit, net.On, net.Off, net.Rule)
+			}
+			// Hebb 1949 outer-product rule, by hand: after one epoch from zero weights,
+			// w_j = rate·Σ_p t_jp x_p and b_j = rate·Σ_p t_jp with t = ±1.
+			units := unitCount(tc.numClasses)
+			for j := range units {
+				want := make([]float64, tc.patterns.Width+1)
+				for i, c := range tc.classes {
+					member := c == j
+					if units == 1 {
+						member = c == 1 // the one unit fires for class 1
+					}
+					target := -1.0
+					if member {
+						target = 1
+					}
+					for k, x := range tc.patterns.Row(i) {
+						want[k] += result.Rate * target * x
+					}
+					want[tc.patterns.Width] += result.Rate * target
+				}
+				got := append(slices.Clone(net.Weights[j]), net.Biases[j])
+				for k := range want {
+					// 1e-12: the sums are the same but added in the shuffled order.
+					if math.Abs(got[k]-want[k]) > 1e-12*math.Max(1, math.Abs(want[k])) {
+						t.Errorf("unit %d: weights %v, want %v", j, got, want)
+						break
+					}
+				}
+			}
+		})
+	}
+}
+
+func TestBiasOnly(t *testing.T) {
+	classes := []int{0, 1, 1}
+	for _, p := range []Patterns{{Width: 0}, {Width: 0, Rows: 3}} {
+		result, err := Train(p, classes, 2, Options{Unit: Linear, Batch: true, KeepGoing: true, Epochs: 500, Tolerance: 1e-300})
+		if err != nil {
+			t.Fatal(err)
+		}
+		net := result.Network
+		// Hand algebra: least squares of a constant against targets (0, 1, 1) is their mean 2/3.
+		if math.Abs(net.Biases[0]-2.0/3) > 1e-12 || len(net.Weights[0]) != 0 {
+			t.Errorf("bias %v, weights %v: want 2/3 and none", net.Biases[0], net.Weights[0])
+		}
+		if got := net.Classify(nil); got != 1 { // 2/3 > 1/2
+			t.Errorf("Classify = %d, want 1", got)
+		}
+		if result.LambdaMax != 1 || result.TraceR != 1 { // R = [1] by definition of x̃ = [1]
+			t.Errorf("λmax %v, tr %v, want 1, 1", result.LambdaMax, result.TraceR)
+		}
+	}
+}
+
+func TestTrainRejects(t *testing.T) {
+	good := Patterns{Width: 2, Values: []float64{0, 0, 0, 1, 1, 0, 1, 1}}
+	labels := []int{0, 0, 0, 1}
+	for _, tc := range []struct {
+		name       string
+		patterns   Patterns
+		classes    []int
+		numClasses int
+		opts       Options
+	}{
+		{"one class", good, labels, 1, Options{}},
+		{"class out of range", good, []int{0, 0, 2, 1}, 2, Options{}},
+		{"negative class", good, []int{0, -1, 0, 1}, 2, Options{}},
+		{"too few labels", good, labels[:3], 2, Options{}},
+		{"no patterns", Patterns{Width: 2}, nil, 2, Options{}},
+		{"ragged values", Patterns{Width: 3, Values: good.Values}, labels, 2, Options{}},
+		{"negative width", Patterns{Width: -1}, labels, 2, Options{}},
+		{"width 0 with values", Patterns{Width: 0, Values: []float64{1}}, labels, 2, Options{}},
+		{"width 0 rows mismatch", Patterns{Width: 0, Rows: 2}, labels, 2, Options{}},
+		{"NaN input", Patterns{Width: 2, Values: []float64{0, 0, 0, math.NaN(), 1, 0, 1, 1}}, labels, 2, Options{}},
+		{"infinite input", Patterns{Width: 2, Values: []float64{0, 0, 0, 1, math.Inf(1), 0, 1, 1}}, labels, 2, Options{}},
+		{"negative rate", good, labels, 2, Options{Rate: -0.1}},
+		{"NaN rate", good, labels, 2, Options{Rate: math.NaN()}},
+		{"negative epochs", good, labels, 2, Options{Epochs: -1}},
+		{"negative tolerance", good, labels, 2, Options{Tolerance: -1}},
+		{"unknown unit", good, labels, 2, Options{Unit: Unit(9)}},
+		{"rule with targets upside down", good, labels, 2, Options{Rule: invertedRule{}}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			result, err := Train(tc.patterns, tc.classes, tc.numClasses, tc.opts)
+			if err == nil || result != nil {
+				t.Fatalf("Train = %v, %v; want an error and no result", result, err)
+			}
+			if !strings.HasPrefix(err.Error(), "fit: ") {
+				t.Errorf("error %q does not start with the package name", err)
+			}
+		})
+	}
+}
+
+// invertedRule gives non-members the higher target, which no decision here can use.
+type invertedRule struct{ Delta }
+
+func (invertedRule) Target(member bool) float64 { return Delta{}.Target(!member) }
+
+func TestStopReasons(t *testing.T) {
+	and, andLabels := readTruthTable(t, "and.csv")
+	xor, xorLabels := readTruthTable(t, "xor.csv")
+	for _, tc := range []struct {
+		name     string
+		patterns Patterns
+		labels   []int
+		opts     Options
+		want     string
+	}{
+		{"AND learned", and, andLabels, Options{}, StopZeroErrors},
+		{"AND, keep going to the epoch limit", and, andLabels, Options{KeepGoing: true, Epochs: 5, Tolerance: 1e-300}, StopEpochs},
+		{"XOR batch linear settles", xor, xorLabels, Options{Unit: Linear, Batch: true, Epochs: 100000}, StopConverged},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			result, err := Train(tc.patterns, tc.labels, 2, tc.opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if result.Stop != tc.want {
+				t.Errorf("stop %q, want %q", result.Stop, tc.want)
+			}
+			if n := len(result.History); n == 0 || result.History[n-1].Epoch != n {
+				t.Errorf("history of %d epochs misnumbered", n)
+			}
+		})
+	}
+}
+
+func TestEpochAllocatesNothing(t *testing.T) {
+	rows, species := readIris(t)
+	patterns := standardized(rows)
+	for _, batch := range []bool{false, true} {
+		tr, err := newTrainer(patterns, species, 3, Options{Batch: batch})
+		if err != nil {
+			t.Fatal(err)
+		}
+		epoch := 0
+		allocs := testing.AllocsPerRun(20, func() {
+			epoch++
+			if batch {
+				tr.batchEpoch()
+			} else {
+				tr.onlineEpoch(epoch)
+			}
+			tr.measure(epoch)
+		})
+		if allocs != 0 { // the package's invariant: buffers are made once per Train
+			t.Errorf("batch %v: %v allocations per epoch, want 0", batch, allocs)
+		}
+	}
+}
