@@ -1,0 +1,156 @@
+package evaluate
+
+import (
+	"errors"
+	"fmt"
+	"strconv"
+
+	"deltafit/fit"
+	"deltafit/ingest"
+)
+
+// Learner fits an encoding plan and a network together on training rows.
+// The plan sees only those rows, so cross-validation never leaks the
+// held-out fold into the encoding.
+type Learner struct {
+	Plan ingest.PlanOptions
+	Fit  fit.Options
+}
+
+// Fitted is a plan and the network trained on its patterns.
+type Fitted struct {
+	Plan   *ingest.Plan
+	Result *fit.Result
+}
+
+// Train fits the plan on rows of d (0-based; nil means all) and trains the
+// network on the encoded rows.
+func (l Learner) Train(d *ingest.Dataset, rows []int) (*Fitted, error) {
+	if rows == nil {
+		rows = allRows(d.Table.Rows)
+	}
+	plan, err := ingest.FitPlan(d.Features, rows, l.Plan)
+	if err != nil {
+		return nil, err
+	}
+	values, _ := plan.EncodeTo(nil, d.Features, rows)
+	classes := make([]int, len(rows))
+	for i, r := range rows {
+		classes[i] = d.Classes[r]
+	}
+	res, err := fit.Train(fit.Patterns{Width: plan.Width(), Values: values}, classes, len(d.Labels), l.Fit)
+	if err != nil {
+		return nil, err
+	}
+	return &Fitted{Plan: plan, Result: res}, nil
+}
+
+// Predict classifies rows of cols (the plan's columns, from Plan.Bind or
+// the dataset's features).
+func (f *Fitted) Predict(cols []*ingest.Column, rows []int) ([]int, ingest.EncodeStats) {
+	width := f.Plan.Width()
+	values, stats := f.Plan.EncodeTo(nil, cols, rows)
+	predicted := make([]int, len(rows))
+	scores := make([]float64, f.Result.Network.Classes)
+	for i := range rows {
+		x := values[i*width : (i+1)*width]
+		scores = f.Result.Network.ScoresTo(scores, x)
+		predicted[i] = argmax(scores)
+	}
+	return predicted, stats
+}
+
+func argmax(xs []float64) int {
+	best := 0
+	for i, x := range xs {
+		if x > xs[best] {
+			best = i
+		}
+	}
+	return best
+}
+
+func allRows(n int) []int {
+	rows := make([]int, n)
+	for i := range rows {
+		rows[i] = i
+	}
+	return rows
+}
+
+// Method predicts the classes of test rows after learning from train rows.
+type Method struct {
+	Name    string
+	Predict func(train, test []int) ([]int, error)
+}
+
+// LearnerMethod cross-validates a Learner, whatever rule l.Fit names.
+func LearnerMethod(name string, l Learner, d *ingest.Dataset) Method {
+	return Method{Name: name, Predict: func(train, test []int) ([]int, error) {
+		fitted, err := l.Train(d, train)
+		if err != nil {
+			return nil, err
+		}
+		predicted, _ := fitted.Predict(d.Features, test)
+		return predicted, nil
+	}}
+}
+
+// MajorityMethod predicts the most frequent class of the training rows for
+// every test row.
+func MajorityMethod(d *ingest.Dataset) Method {
+	return Method{Name: "majority", Predict: func(train, test []int) ([]int, error) {
+		classes := make([]int, len(train))
+		for i, r := range train {
+			classes[i] = d.Classes[r]
+		}
+		majority := Majority(classes, len(d.Labels))
+		predicted := make([]int, len(test))
+		for i := range predicted {
+			predicted[i] = majority
+		}
+		return predicted, nil
+	}}
+}
+
+// CVResult is the out-of-fold outcome of one method.
+type CVResult struct {
+	Method       string
+	Confusion    *Confusion // out-of-fold predictions of every fold, pooled
+	FoldAccuracy []float64
+	Mean, SD     float64 // of FoldAccuracy (sample sd)
+}
+
+// CrossValidate trains on all folds but one and predicts the held-out
+// fold, for each fold in turn, and pools the predictions.
+func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error) {
+	res := &CVResult{Method: m.Name, Confusion: NewConfusion(d.Labels)}
+	for k, test := range folds {
+		train := TrainRows(folds, k)
+		predicted, err := m.Predict(train, test)
+		if err != nil {
+			return nil, fmt.Errorf("fold %d of %d: %w", k+1, len(folds), err)
+		}
+		fold := NewConfusion(d.Labels)
+		for i, r := range test {
+			fold.Add(d.Classes[r], predicted[i])
+		}
+		if err := res.Confusion.Merge(fold); err != nil {
+			return nil, err
+		}
+		res.FoldAccuracy = append(res.FoldAccuracy, fold.Accuracy())
+	}
+	res.Mean, res.SD = MeanSD(res.FoldAccuracy)
+	return res, nil
+}
+
+// Folds makes stratified folds of d, with FoldError rewritten to name the
+// class label.
+func Folds(d *ingest.Dataset, k int, seed uint64) ([][]int, error) {
+	folds, err := StratifiedFolds(d.Classes, len(d.Labels), k, seed)
+	var fe *FoldError
+	if errors.As(err, &fe) {
+		return nil, errors.New(fe.Message(strconv.Quote(d.Labels[fe.Label])))
+	}
+	return folds, err
+}
