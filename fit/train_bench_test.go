@@ -1,0 +1,78 @@
+package fit
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+)
+
+// BenchmarkEpoch times one training epoch (the updates and the end-of-epoch
+// loss and error count) over a grid of rows × inputs × classes, on random
+// patterns, online and batch.
+func BenchmarkEpoch(b *testing.B) {
+	for _, rows := range []int{150, 10000} {
+		for _, inputs := range []int{4, 64, 512} {
+			for _, classes := range []int{2, 10} {
+				patterns, labels := randomPatterns(rows, inputs, classes)
+				for _, batch := range []bool{false, true} {
+					mode := map[bool]string{false: "online", true: "batch"}[batch]
+					name := fmt.Sprintf("rows=%d/inputs=%d/classes=%d/%s", rows, inputs, classes, mode)
+					b.Run(name, func(b *testing.B) {
+						tr, err := newTrainer(patterns, labels, classes, Options{Batch: batch})
+						if err != nil {
+							b.Fatal(err)
+						}
+						b.ReportAllocs()
+						epoch := 0
+						for b.Loop() {
+							epoch++
+							if batch {
+								tr.batchEpoch()
+							} else {
+								tr.onlineEpoch(epoch)
+							}
+							tr.measure(epoch)
+						}
+						b.ReportMetric(float64(rows)*float64(epoch)/b.Elapsed().Seconds(), "patterns/s")
+					})
+				}
+			}
+		}
+	}
+}
+
+// BenchmarkAutoRate times the λmax and tr(R) computation, eigendecomposition
+// and power iteration.
+func BenchmarkAutoRate(b *testing.B) {
+	for _, inputs := range []int{64, 512} {
+		patterns, _ := randomPatterns(1000, inputs, 2)
+		for _, method := range []struct {
+			name string
+			run  func(Patterns) (float64, float64, error)
+		}{{"eigen", eigenLambdaMax}, {"power", powerLambdaMax}} {
+			b.Run(fmt.Sprintf("inputs=%d/%s", inputs, method.name), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if _, _, err := method.run(patterns); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}
+
+// randomPatterns makes uniform patterns in [0, 1) with uniform labels;
+// timing only, never checked.
+func randomPatterns(rows, inputs, classes int) (Patterns, []int) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	p := Patterns{Width: inputs, Values: make([]float64, rows*inputs)}
+	for i := range p.Values {
+		p.Values[i] = rng.Float64()
+	}
+	labels := make([]int, rows)
+	for i := range labels {
+		labels[i] = rng.IntN(classes)
+	}
+	return p, labels
+}
