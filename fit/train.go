@@ -206,12 +206,7 @@ func (o *Options) setDefaults() error {
 func (t *trainer) run() (*Result, error) {
 	previous := math.NaN()
 	for epoch := 1; epoch <= t.opts.Epochs; epoch++ {
-		if t.opts.Batch {
-			t.batchEpoch()
-		} else {
-			t.onlineEpoch(epoch)
-		}
-		stats := t.measure(epoch)
+		stats := t.epoch(epoch)
 		t.result.History = append(t.result.History, stats)
 		if !t.weightsFinite() || !finite(stats.Loss) || stats.Loss > divergedLoss {
 			return nil, fmt.Errorf("%w at epoch %d (rate %g, stable below 2/λmax = %.4g)",
@@ -232,6 +227,16 @@ func (t *trainer) run() (*Result, error) {
 	}
 	t.result.Network = t.net
 	return &t.result, nil
+}
+
+// epoch trains one epoch and measures the weights it ends with.
+func (t *trainer) epoch(epoch int) EpochStats {
+	if t.opts.Batch {
+		t.batchEpoch()
+	} else {
+		t.onlineEpoch(epoch)
+	}
+	return t.measure(epoch)
 }
 
 // target returns unit j's target for a pattern of class c.

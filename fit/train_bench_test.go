@@ -15,8 +15,7 @@ func BenchmarkEpoch(b *testing.B) {
 			for _, classes := range []int{2, 10} {
 				patterns, labels := randomPatterns(rows, inputs, classes)
 				for _, batch := range []bool{false, true} {
-					mode := map[bool]string{false: "online", true: "batch"}[batch]
-					name := fmt.Sprintf("rows=%d/inputs=%d/classes=%d/%s", rows, inputs, classes, mode)
+					name := fmt.Sprintf("rows=%d/inputs=%d/classes=%d/%s", rows, inputs, classes, modeName(batch))
 					b.Run(name, func(b *testing.B) {
 						tr, err := newTrainer(patterns, labels, classes, Options{Batch: batch})
 						if err != nil {
@@ -26,12 +25,7 @@ func BenchmarkEpoch(b *testing.B) {
 						epoch := 0
 						for b.Loop() {
 							epoch++
-							if batch {
-								tr.batchEpoch()
-							} else {
-								tr.onlineEpoch(epoch)
-							}
-							tr.measure(epoch)
+							tr.epoch(epoch)
 						}
 						b.ReportMetric(float64(rows)*float64(epoch)/b.Elapsed().Seconds(), "patterns/s")
 					})

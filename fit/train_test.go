@@ -8,23 +8,29 @@ import (
 	"testing"
 )
 
-// datasets are the real data sets the stability checks run on.
-func datasets(t *testing.T) []struct {
+// dataset is a real data set with its class labels.
+type dataset struct {
 	name       string
 	patterns   Patterns
 	classes    []int
 	numClasses int
-} {
+}
+
+// modeName names a training mode in subtest names.
+func modeName(batch bool) string {
+	if batch {
+		return "batch"
+	}
+	return "online"
+}
+
+// datasets are the real data sets the stability checks run on.
+func datasets(t *testing.T) []dataset {
 	rows, species := readIris(t)
 	xor, xorLabels := readTruthTable(t, "xor.csv")
 	and, andLabels := readTruthTable(t, "and.csv")
 	or, orLabels := readTruthTable(t, "or.csv")
-	return []struct {
-		name       string
-		patterns   Patterns
-		classes    []int
-		numClasses int
-	}{
+	return []dataset{
 		{"iris raw", patternsOf(rows), species, 3},
 		{"iris standardized", standardized(rows), species, 3},
 		{"iris min-max setosa vs rest", minMaxed(rows), oneVsRest(species, 0), 2},
@@ -37,7 +43,7 @@ func datasets(t *testing.T) []struct {
 func TestRateAboveStabilityBoundDiverges(t *testing.T) {
 	for _, data := range datasets(t) {
 		for _, batch := range []bool{false, true} {
-			t.Run(data.name+map[bool]string{false: " online", true: " batch"}[batch], func(t *testing.T) {
+			t.Run(data.name+" "+modeName(batch), func(t *testing.T) {
 				_, lambdaMax, _, err := AutoRate(data.patterns, batch)
 				if err != nil {
 					t.Fatal(err)
@@ -66,7 +72,7 @@ func TestAutomaticRateStable(t *testing.T) {
 		for _, opts := range []Options{
 			{Unit: Linear}, {Unit: Logistic}, {Unit: Linear, Batch: true}, {Unit: Logistic, Batch: true},
 		} {
-			name := data.name + " " + opts.Unit.String() + map[bool]string{false: " online", true: " batch"}[opts.Batch]
+			name := data.name + " " + opts.Unit.String() + " " + modeName(opts.Batch)
 			t.Run(name, func(t *testing.T) {
 				opts.KeepGoing, opts.Epochs = true, 300
 				result, err := Train(data.patterns, data.classes, data.numClasses, opts)
@@ -306,12 +312,7 @@ func TestEpochAllocatesNothing(t *testing.T) {
 		epoch := 0
 		allocs := testing.AllocsPerRun(20, func() {
 			epoch++
-			if batch {
-				tr.batchEpoch()
-			} else {
-				tr.onlineEpoch(epoch)
-			}
-			tr.measure(epoch)
+			tr.epoch(epoch)
 		})
 		if allocs != 0 { // the package's invariant: buffers are made once per Train
 			t.Errorf("batch %v: %v allocations per epoch, want 0", batch, allocs)
