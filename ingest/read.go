@@ -112,7 +112,13 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordRe
 			}
 			return newArrowFileReader(name, data, opts)
 		}
-		rdr, err := ipc.NewReader(br, ipc.WithAllocator(opts.allocator()))
+		// ipc.NewReader ignores the metadata size limit, so a stream that
+		// does not start with a schema message (say, a CSV read with
+		// Format "arrow") would make it allocate whatever its first four
+		// bytes claim. The message reader applies arrow's 64 MiB limit;
+		// record bodies stay unlimited.
+		mr := ipc.NewMessageReader(br, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(0))
+		rdr, err := ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
 		if err != nil {
 			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
 		}
