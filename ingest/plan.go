@@ -469,3 +469,71 @@ func (f *Feature) encode(units []float64, col *Column, row int, stats *EncodeSta
 		}
 	}
 }
+
+// Caps on a plan read from a file, checked before it is used.
+const (
+	MaxFeatures = 100_000
+	MaxWidth    = 1 << 20 // input units
+)
+
+// Validate checks a plan read from a file: known methods, sorted finite cuts,
+// sorted distinct categories and sizes within the caps.
+func (p *Plan) Validate() error {
+	if len(p.Features) > MaxFeatures {
+		return fmt.Errorf("ingest: the plan has %d features, over the cap of %d", len(p.Features), MaxFeatures)
+	}
+	width := 0
+	seen := make(map[string]bool, len(p.Features))
+	for i := range p.Features {
+		f := &p.Features[i]
+		if f.Column == "" || seen[f.Column] {
+			return fmt.Errorf("ingest: plan feature %d has an empty or repeated column name %q", i+1, f.Column)
+		}
+		seen[f.Column] = true
+		if err := f.validate(); err != nil {
+			return fmt.Errorf("ingest: plan feature %q: %v", f.Column, err)
+		}
+		width += f.Width()
+		if width > MaxWidth {
+			return fmt.Errorf("ingest: the plan has more than %d input units", MaxWidth)
+		}
+	}
+	return nil
+}
+
+func (f *Feature) validate() error {
+	for _, x := range []float64{f.Center, f.Scale} {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return errors.New("center and scale must be finite")
+		}
+	}
+	if len(f.Cuts) > MaxBins {
+		return fmt.Errorf("%d cuts, over the cap of %d", len(f.Cuts), MaxBins)
+	}
+	for i, c := range f.Cuts {
+		if math.IsNaN(c) || math.IsInf(c, 0) || (i > 0 && c <= f.Cuts[i-1]) {
+			return errors.New("cuts must be finite and increasing")
+		}
+	}
+	if len(f.Categories) > MaxCategories {
+		return fmt.Errorf("%d categories, over the cap of %d", len(f.Categories), MaxCategories)
+	}
+	for i := 1; i < len(f.Categories); i++ {
+		if f.Categories[i] <= f.Categories[i-1] {
+			return errors.New("categories must be sorted and distinct")
+		}
+	}
+	switch {
+	case f.Kind == Categorical && f.Method == OneHot:
+	case f.Kind == Boolean && f.Method == Flag:
+	case f.Kind == Numeric && (f.Method == Thermometer || f.Method == OneHotBins):
+	case f.Kind == Numeric && f.Method == Threshold && len(f.Cuts) == 1:
+	case f.Kind == Numeric && (f.Method == ZScore || f.Method == MinMax) && f.Scale >= 0:
+	default:
+		return fmt.Errorf("method %q does not fit a %s column with these parameters", f.Method, f.Kind)
+	}
+	if f.Kind != Categorical && len(f.Categories) > 0 {
+		return errors.New("only categorical features have categories")
+	}
+	return nil
+}

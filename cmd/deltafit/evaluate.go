@@ -1,0 +1,73 @@
+package main
+
+import (
+	"context"
+	"io"
+
+	"github.com/spf13/cobra"
+
+	"deltafit/evaluate"
+	"deltafit/export"
+	"deltafit/ingest"
+)
+
+type evaluateOptions struct {
+	modelInput
+	format string
+}
+
+func newEvaluateCmd() *cobra.Command {
+	var opts evaluateOptions
+	cmd := &cobra.Command{
+		Use:   "evaluate --model MODEL DATA [flags]",
+		Short: "Score a saved model on labelled rows: confusion table and metrics",
+		Long: `Evaluate classifies the rows of DATA (a path, or - for stdin) with a saved
+model and compares the predictions with the model's target column, which
+DATA must have. It prints the confusion table (rows: true class, columns:
+predicted), accuracy, balanced accuracy, macro F1, Cohen's kappa, and
+per-class precision, recall, F1 and support.
+` + exitStatusHelp,
+		Example: `  deltafit evaluate --model model.json holdout.csv
+  deltafit evaluate --model model.json holdout.csv --format json | jq .accuracy`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runEvaluate(cmd.Context(), opts, args[0], cmd.InOrStdin(), cmd.OutOrStdout(), cmd.ErrOrStderr())
+		},
+	}
+	opts.input.add(cmd.Flags())
+	cmd.Flags().StringVar(&opts.model, "model", "", "model file written by fit -o (required)")
+	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
+	_ = cmd.MarkFlagRequired("model")
+	return cmd
+}
+
+func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
+	format, err := export.ParseFormat(opts.format)
+	if err != nil {
+		return usageError{err}
+	}
+	model, table, sha, err := opts.load(path, stdin)
+	if err != nil {
+		return err
+	}
+	truth, err := ingest.TargetClasses(table, model.Target, model.Labels)
+	if err != nil {
+		return err
+	}
+	predictions, stats, err := model.Predict(table)
+	if err != nil {
+		return err
+	}
+	warnEncoding(stderr, path, stats)
+	confusion := evaluate.NewConfusion(model.Labels)
+	if err := confusion.AddAll(truth, predictions.Predicted); err != nil {
+		return err
+	}
+	counts := confusion.RowTotals()
+	data := export.DataSummary{
+		Source: displayName(path), SHA256: sha, Rows: table.Rows,
+		Features: len(model.Plan.Features), Inputs: model.Plan.Width(),
+		Target: model.Target, Labels: model.Labels, ClassCounts: counts,
+	}
+	return export.WriteEvaluationReport(stdout, format, export.NewEvaluationReport(data, opts.model, confusion))
+}

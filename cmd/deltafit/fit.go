@@ -1,0 +1,240 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"deltafit/evaluate"
+	"deltafit/export"
+	"deltafit/fit"
+	"deltafit/ingest"
+)
+
+// learnFlags are the encoding and training flags of fit (and check).
+type learnFlags struct {
+	target      string
+	ignore      []string
+	numeric     string
+	categorical string
+	rule        string
+	unit        string
+	epochs      int
+	rate        string
+	seed        uint64
+}
+
+func (f *learnFlags) add(cmd *cobra.Command) {
+	fs := cmd.Flags()
+	fs.StringVar(&f.target, "target", "", "name of the column holding the class (required)")
+	fs.StringSliceVar(&f.ignore, "ignore", nil, "columns to leave out, such as ids (comma-separated)")
+	fs.StringVar(&f.numeric, "numeric", "thermometer:8", "numeric encoding: thermometer[:K], onehot[:K], threshold[:V], zscore or minmax")
+	fs.StringVar(&f.categorical, "categorical", "onehot:1", "categorical encoding: onehot[:MIN], values seen fewer than MIN times share the other unit")
+	fs.StringVar(&f.rule, "rule", "delta", "learning rule: delta or hebbian")
+	fs.StringVar(&f.unit, "unit", "logistic", "output unit: logistic or linear")
+	fs.IntVar(&f.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
+	fs.StringVar(&f.rate, "rate", "auto", `learning rate: a positive number, or "auto" to derive it from the inputs`)
+	fs.Uint64Var(&f.seed, "seed", 1, "seed for the order of updates and the folds")
+	_ = cmd.MarkFlagRequired("target")
+}
+
+// learner turns the flags into a Learner, checking every value.
+func (f *learnFlags) learner() (evaluate.Learner, error) {
+	var l evaluate.Learner
+	var err error
+	if l.Plan.Numeric, err = ingest.ParseNumericEncoding(f.numeric); err != nil {
+		return l, usagef("--numeric: %v", err)
+	}
+	if l.Plan.Categorical, err = ingest.ParseCategoricalEncoding(f.categorical); err != nil {
+		return l, usagef("--categorical: %v", err)
+	}
+	if l.Fit.Rule, err = fit.RuleByName(f.rule); err != nil {
+		return l, usagef("--rule: %v", err)
+	}
+	if l.Fit.Unit, err = fit.ParseUnit(f.unit); err != nil {
+		return l, usagef("--unit: %v", err)
+	}
+	if f.epochs < 1 {
+		return l, usagef("--epochs %d: give at least 1", f.epochs)
+	}
+	l.Fit.Epochs = f.epochs
+	if f.rate != "auto" {
+		rate, err := strconv.ParseFloat(f.rate, 64)
+		if err != nil || !(rate > 0) || rate > 1e6 {
+			return l, usagef(`--rate %q: give a positive number or "auto"`, f.rate)
+		}
+		l.Fit.Rate = rate
+	}
+	l.Fit.Seed = f.seed
+	return l, nil
+}
+
+func (f *learnFlags) modelOptions(kinds []string) export.Options {
+	o := export.Options{
+		Rule: f.rule, Unit: f.unit, Epochs: f.epochs, Rate: f.rate,
+		Numeric: f.numeric, Categorical: f.categorical, Seed: f.seed,
+		Ignore: slices.Clone(f.ignore), Kinds: map[string]string{},
+	}
+	if o.Ignore == nil {
+		o.Ignore = []string{}
+	}
+	for _, kv := range kinds {
+		col, kind, _ := strings.Cut(kv, "=")
+		o.Kinds[col] = kind
+	}
+	return o
+}
+
+type fitOptions struct {
+	input  inputFlags
+	learn  learnFlags
+	output string
+	folds  int
+	format string
+}
+
+func newFitCmd() *cobra.Command {
+	var opts fitOptions
+	cmd := &cobra.Command{
+		Use:   "fit DATA --target COLUMN [flags]",
+		Short: "Fit a model on all rows; with --folds, cross-validate it against baselines",
+		Long: `Fit encodes every feature column on all rows of DATA (a path, or - for stdin),
+trains the output units with the chosen rule and prints a training summary.
+With -o it writes the model file (atomically). With --folds K it also runs
+stratified K-fold cross-validation, fitting the encoding and the weights on
+each training fold only, and reports the pooled out-of-fold confusion table
+beside the majority-class and Hebbian baselines.
+` + exitStatusHelp,
+		Example: `  deltafit fit testdata/iris.csv --target species --folds 10 --seed 1
+  cat runs.csv | deltafit fit - --target outcome --ignore run_id -o model.json --format json`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runFit(cmd.Context(), opts, args[0], cmd.InOrStdin(), cmd.OutOrStdout(), cmd.ErrOrStderr())
+		},
+	}
+	opts.input.add(cmd.Flags())
+	opts.learn.add(cmd)
+	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the model file here")
+	cmd.Flags().IntVar(&opts.folds, "folds", 0, "cross-validate with this many stratified folds (0: no cross-validation)")
+	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
+	return cmd
+}
+
+func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, stdout, _ io.Writer) error {
+	format, err := export.ParseFormat(opts.format)
+	if err != nil {
+		return usageError{err}
+	}
+	if opts.folds == 1 || opts.folds < 0 {
+		return usagef("--folds %d: give 0 for no cross-validation, or at least 2", opts.folds)
+	}
+	learner, err := opts.learn.learner()
+	if err != nil {
+		return err
+	}
+	readOpts, err := opts.input.readOptions()
+	if err != nil {
+		return err
+	}
+	table, sha, err := readTable(path, stdin, readOpts)
+	if err != nil {
+		return err
+	}
+	d, err := ingest.NewDataset(table, opts.learn.target, opts.learn.ignore)
+	if err != nil {
+		return err
+	}
+	study, err := runStudy(d, learner, opts.folds, opts.learn.seed)
+	if err != nil {
+		return err
+	}
+	model := &export.Model{
+		Schema:   export.SchemaVersion,
+		Tool:     "deltafit " + export.Version,
+		Target:   d.Target,
+		Labels:   d.Labels,
+		Plan:     study.fitted.Plan,
+		Network:  study.fitted.Result.Network,
+		Options:  opts.learn.modelOptions(opts.input.kinds),
+		Training: export.NewTraining(study.fitted.Result),
+		Data:     export.DataInfo{Rows: table.Rows, SHA256: sha},
+	}
+	report := &export.FitReport{
+		Data:     dataSummary(d, study.fitted.Plan, sha),
+		Training: export.NewTrainingSummary(model),
+		CV:       study.cv,
+		Model:    opts.output,
+	}
+	if opts.output != "" {
+		if err := export.WriteFile(opts.output, func(w io.Writer) error { return export.WriteModel(w, model) }); err != nil {
+			return err
+		}
+	}
+	return export.WriteFitReport(stdout, format, report)
+}
+
+// study is a fit on all rows and, when asked, its cross-validation.
+type study struct {
+	fitted *evaluate.Fitted
+	cv     *export.CVReport
+}
+
+func runStudy(d *ingest.Dataset, learner evaluate.Learner, folds int, seed uint64) (*study, error) {
+	fitted, err := learner.Train(d, nil)
+	if err != nil {
+		return nil, divergenceHint(err)
+	}
+	s := &study{fitted: fitted}
+	if folds == 0 {
+		return s, nil
+	}
+	split, err := evaluate.Folds(d, folds, seed)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", d.Table.Name, err)
+	}
+	main, err := evaluate.CrossValidate(d, split, evaluate.LearnerMethod(learner.Fit.Rule.Name(), learner, d))
+	if err != nil {
+		return nil, divergenceHint(err)
+	}
+	majority, err := evaluate.CrossValidate(d, split, evaluate.MajorityMethod(d))
+	if err != nil {
+		return nil, err
+	}
+	hebb := learner
+	hebb.Fit.Rule, hebb.Fit.Epochs, hebb.Fit.Rate = fit.Hebbian{}, 1, 0
+	hebbian, err := evaluate.CrossValidate(d, split, evaluate.LearnerMethod("hebbian", hebb, d))
+	if err != nil {
+		return nil, err
+	}
+	s.cv = export.NewCVReport(seed, main, majority, hebbian)
+	return s, nil
+}
+
+func divergenceHint(err error) error {
+	if errors.Is(err, fit.ErrDiverged) {
+		return fmt.Errorf("%w; try --rate auto, or a smaller --rate", err)
+	}
+	return err
+}
+
+func dataSummary(d *ingest.Dataset, plan *ingest.Plan, sha string) export.DataSummary {
+	counts := make([]int, len(d.Labels))
+	for _, c := range d.Classes {
+		counts[c]++
+	}
+	source := d.Table.Name
+	if source == "-" {
+		source = "stdin"
+	}
+	return export.DataSummary{
+		Source: source, SHA256: sha, Rows: d.Table.Rows,
+		Features: len(d.Features), Inputs: plan.Width(),
+		Target: d.Target, Labels: d.Labels, ClassCounts: counts,
+	}
+}

@@ -1,0 +1,82 @@
+package main
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+
+	"github.com/spf13/pflag"
+
+	"deltafit/ingest"
+)
+
+// inputFlags are the flags every command that reads a table shares.
+type inputFlags struct {
+	delimiter string
+	format    string
+	kinds     []string
+}
+
+func (f *inputFlags) add(fs *pflag.FlagSet) {
+	fs.StringVar(&f.delimiter, "delimiter", ",", `CSV field delimiter: one character, or "tab"`)
+	fs.StringVar(&f.format, "input-format", "auto", "input format: auto, csv, arrow or parquet")
+	fs.StringArrayVar(&f.kinds, "kind", nil, "declare a column's kind, as COLUMN=numeric|categorical|boolean (repeatable)")
+}
+
+func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
+	var opts ingest.ReadOptions
+	format, err := ingest.ParseFormat(f.format)
+	if err != nil {
+		return opts, usageError{err}
+	}
+	opts.Format = format
+	switch d := f.delimiter; {
+	case d == "tab" || d == `\t`:
+		opts.Delimiter = '\t'
+	case len([]rune(d)) == 1 && d != "\n" && d != "\r" && d != `"`:
+		opts.Delimiter = []rune(d)[0]
+	default:
+		return opts, usagef("--delimiter %q: give one character (not a quote or line break), or \"tab\"", d)
+	}
+	for _, kv := range f.kinds {
+		col, kind, ok := strings.Cut(kv, "=")
+		if !ok || col == "" {
+			return opts, usagef("--kind %q: write COLUMN=numeric, COLUMN=categorical or COLUMN=boolean", kv)
+		}
+		k, err := ingest.ParseKind(kind)
+		if err != nil {
+			return opts, usagef("--kind %q: %v", kv, err)
+		}
+		if opts.Kinds == nil {
+			opts.Kinds = map[string]ingest.Kind{}
+		}
+		opts.Kinds[col] = k
+	}
+	return opts, nil
+}
+
+// readTable reads a whole table from a path or "-" (stdin) and returns it
+// with the sha256 of the bytes read.
+func readTable(path string, stdin io.Reader, opts ingest.ReadOptions) (*ingest.Table, string, error) {
+	var r io.Reader = stdin
+	if path != "-" {
+		f, err := os.Open(path)
+		if err != nil {
+			return nil, "", fmt.Errorf("cannot open the data: %w", err)
+		}
+		defer f.Close()
+		r = f
+	}
+	h := sha256.New()
+	t, err := ingest.ReadTable(path, io.TeeReader(r, h), opts)
+	if err != nil {
+		return nil, "", err
+	}
+	if _, err := io.Copy(h, r); err != nil {
+		return nil, "", fmt.Errorf("%s: %w", path, err)
+	}
+	return t, hex.EncodeToString(h.Sum(nil)), nil
+}

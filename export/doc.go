@@ -1,0 +1,14 @@
+// Package export hands results on: the model file, prediction files and the
+// reports of fit, evaluate and cross-validation in text, Markdown or JSON.
+//
+// It is the last stage of the pipeline ingest → fit → evaluate → export.
+//
+// Invariants that always hold:
+//   - Files are written atomically: to a temporary file in the same
+//     directory, synced, then renamed. A failed run leaves any previous file
+//     as it was and no partial file behind.
+//   - The same model, options and seed give the same bytes: JSON keys are in
+//     a fixed order and numbers are printed in their shortest exact form.
+//   - A model file is checked (size cap, schema version, dimensions, finite
+//     weights) before anything in it is used.
+package export

@@ -1,0 +1,178 @@
+package export
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"slices"
+
+	"deltafit/fit"
+	"deltafit/ingest"
+)
+
+// Version is the tool's version, written into every model file.
+const Version = "0.1.0"
+
+// SchemaVersion is the model file's schema version. A reader accepts only
+// the versions it knows.
+const SchemaVersion = 1
+
+// MaxModelBytes caps the size of a model file read by ReadModel.
+const MaxModelBytes = 256 << 20
+
+// Model is what a model file holds: everything needed to encode new rows
+// exactly as the training rows were and to score them.
+type Model struct {
+	Schema   int          `json:"schema_version"`
+	Tool     string       `json:"tool"`
+	Target   string       `json:"target"`
+	Labels   []string     `json:"labels"`
+	Plan     *ingest.Plan `json:"plan"`
+	Network  *fit.Network `json:"network"`
+	Options  Options      `json:"options"`
+	Training Training     `json:"training"`
+	Data     DataInfo     `json:"data"`
+}
+
+// Options are the options a model was fitted with, as the user gave them.
+type Options struct {
+	Rule        string            `json:"rule"`
+	Unit        string            `json:"unit"`
+	Epochs      int               `json:"epochs"`
+	Rate        string            `json:"rate"` // "auto" or a number
+	Numeric     string            `json:"numeric"`
+	Categorical string            `json:"categorical"`
+	Seed        uint64            `json:"seed"`
+	Ignore      []string          `json:"ignore"`
+	Kinds       map[string]string `json:"kinds"`
+}
+
+// Training summarises the fit on all rows.
+type Training struct {
+	Rate      float64          `json:"rate"`
+	RateAuto  bool             `json:"rate_auto"`
+	LambdaMax float64          `json:"lambda_max"`
+	TraceR    float64          `json:"trace_r"`
+	Epochs    int              `json:"epochs"`
+	Errors    int              `json:"errors"`
+	Loss      float64          `json:"loss"`
+	Stop      string           `json:"stop"`
+	History   []fit.EpochStats `json:"history"`
+}
+
+// DataInfo identifies the training data.
+type DataInfo struct {
+	Rows   int    `json:"rows"`
+	SHA256 string `json:"sha256"` // of the input bytes as read
+}
+
+// NewTraining summarises a fit result.
+func NewTraining(res *fit.Result) Training {
+	t := Training{
+		Rate:      res.Rate,
+		RateAuto:  res.RateAuto,
+		LambdaMax: res.LambdaMax,
+		TraceR:    res.TraceR,
+		Epochs:    len(res.History),
+		Stop:      res.Stop,
+		History:   res.History,
+	}
+	if n := len(res.History); n > 0 {
+		t.Errors = res.History[n-1].Errors
+		t.Loss = res.History[n-1].Loss
+	}
+	return t
+}
+
+// WriteModel writes m as indented JSON.
+func WriteModel(w io.Writer, m *Model) error {
+	b, err := json.MarshalIndent(m, "", "  ")
+	if err != nil {
+		return fmt.Errorf("export: %w", err)
+	}
+	b = append(b, '\n')
+	_, err = w.Write(b)
+	return err
+}
+
+// ErrModel is wrapped by every error about a model file's contents.
+var ErrModel = errors.New("not a usable deltafit model")
+
+// ReadModel reads and checks a model file. name is used in messages.
+func ReadModel(name string, r io.Reader) (*Model, error) {
+	b, err := io.ReadAll(io.LimitReader(r, MaxModelBytes+1))
+	if err != nil {
+		return nil, fmt.Errorf("%s: cannot read the model: %w", name, err)
+	}
+	if len(b) > MaxModelBytes {
+		return nil, fmt.Errorf("%s: %w: the file is larger than the cap of %d MiB", name, ErrModel, MaxModelBytes>>20)
+	}
+	var head struct {
+		Schema *int `json:"schema_version"`
+	}
+	if err := json.Unmarshal(b, &head); err != nil {
+		return nil, fmt.Errorf("%s: %w: %v", name, ErrModel, describeJSONError(b, err))
+	}
+	switch {
+	case head.Schema == nil:
+		return nil, fmt.Errorf("%s: %w: it has no schema_version", name, ErrModel)
+	case *head.Schema != SchemaVersion:
+		return nil, fmt.Errorf("%s: %w: schema version %d is not %d, the one this deltafit %s reads", name, ErrModel, *head.Schema, SchemaVersion, Version)
+	}
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.DisallowUnknownFields()
+	var m Model
+	if err := dec.Decode(&m); err != nil {
+		return nil, fmt.Errorf("%s: %w: %v", name, ErrModel, describeJSONError(b, err))
+	}
+	if err := m.Validate(); err != nil {
+		return nil, fmt.Errorf("%s: %w: %v", name, ErrModel, err)
+	}
+	return &m, nil
+}
+
+func describeJSONError(b []byte, err error) string {
+	var se *json.SyntaxError
+	if errors.As(err, &se) {
+		line := 1 + bytes.Count(b[:min(int(se.Offset), len(b))], []byte("\n"))
+		return fmt.Sprintf("invalid JSON at line %d: %v", line, se)
+	}
+	if errors.Is(err, io.ErrUnexpectedEOF) {
+		return "the JSON ends early; is the file truncated?"
+	}
+	return err.Error()
+}
+
+// Validate checks that the parts of a model agree with each other.
+func (m *Model) Validate() error {
+	switch {
+	case m.Plan == nil:
+		return errors.New("it has no encoding plan")
+	case m.Network == nil:
+		return errors.New("it has no network")
+	case m.Target == "":
+		return errors.New("it names no target column")
+	case len(m.Labels) < 2:
+		return fmt.Errorf("it has %d class labels, fewer than two", len(m.Labels))
+	}
+	sorted := slices.Clone(m.Labels)
+	slices.Sort(sorted)
+	if len(slices.Compact(sorted)) != len(m.Labels) {
+		return errors.New("its class labels repeat")
+	}
+	if err := m.Plan.Validate(); err != nil {
+		return err
+	}
+	if m.Network.Classes != len(m.Labels) {
+		return fmt.Errorf("its network has %d classes but it lists %d labels", m.Network.Classes, len(m.Labels))
+	}
+	if m.Network.Inputs != m.Plan.Width() {
+		return fmt.Errorf("its network has %d inputs but its plan makes %d", m.Network.Inputs, m.Plan.Width())
+	}
+	if m.Network.Inputs > ingest.MaxWidth || m.Network.Classes > ingest.MaxCategories {
+		return errors.New("its network is larger than the caps")
+	}
+	return m.Network.Validate()
+}

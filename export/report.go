@@ -1,0 +1,379 @@
+package export
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"strconv"
+
+	"github.com/olekukonko/tablewriter"
+	"github.com/olekukonko/tablewriter/renderer"
+	"github.com/olekukonko/tablewriter/tw"
+
+	"deltafit/evaluate"
+)
+
+// Format is a report format.
+type Format string
+
+const (
+	Text     Format = "text"
+	JSON     Format = "json"
+	Markdown Format = "markdown"
+)
+
+// ParseFormat parses "text", "json" or "markdown".
+func ParseFormat(s string) (Format, error) {
+	switch f := Format(s); f {
+	case Text, JSON, Markdown:
+		return f, nil
+	}
+	return "", fmt.Errorf("export: unknown report format %q (want text, json or markdown)", s)
+}
+
+// DataSummary describes the data a report is about.
+type DataSummary struct {
+	Source      string   `json:"source"`
+	SHA256      string   `json:"sha256"`
+	Rows        int      `json:"rows"`
+	Features    int      `json:"features"` // feature columns
+	Inputs      int      `json:"inputs"`   // encoded input units
+	Target      string   `json:"target"`
+	Labels      []string `json:"labels"`
+	ClassCounts []int    `json:"class_counts"`
+}
+
+// TrainingSummary describes the fit on all rows.
+type TrainingSummary struct {
+	Rule        string  `json:"rule"`
+	Unit        string  `json:"unit"`
+	Rate        float64 `json:"rate"`
+	RateAuto    bool    `json:"rate_auto"`
+	LambdaMax   float64 `json:"lambda_max"`
+	StableBelow float64 `json:"stable_below"` // 2/λmax
+	Epochs      int     `json:"epochs"`
+	Errors      int     `json:"errors"`
+	Accuracy    float64 `json:"accuracy"`
+	Loss        float64 `json:"loss"`
+	Stop        string  `json:"stop"`
+}
+
+// NewTrainingSummary summarises a model's training record.
+func NewTrainingSummary(m *Model) TrainingSummary {
+	t := m.Training
+	s := TrainingSummary{
+		Rule: m.Network.Rule, Unit: m.Network.Unit.String(),
+		Rate: t.Rate, RateAuto: t.RateAuto, LambdaMax: t.LambdaMax,
+		Epochs: t.Epochs, Errors: t.Errors, Loss: t.Loss, Stop: t.Stop,
+	}
+	if t.LambdaMax > 0 {
+		s.StableBelow = 2 / t.LambdaMax
+	}
+	if m.Data.Rows > 0 {
+		s.Accuracy = 1 - float64(t.Errors)/float64(m.Data.Rows)
+	}
+	return s
+}
+
+// Spread is a mean and sample standard deviation over folds.
+type Spread struct {
+	Mean  float64   `json:"mean"`
+	SD    float64   `json:"sd"`
+	Folds []float64 `json:"folds"`
+}
+
+// MethodSummary is the cross-validated outcome of a baseline.
+type MethodSummary struct {
+	Accuracy         float64 `json:"accuracy"`
+	SD               float64 `json:"sd"`
+	BalancedAccuracy float64 `json:"balanced_accuracy"`
+	MacroF1          float64 `json:"macro_f1"`
+	Kappa            float64 `json:"kappa"`
+}
+
+// Baselines are the methods cross-validated beside the delta rule.
+type Baselines struct {
+	Majority MethodSummary `json:"majority"`
+	Hebbian  MethodSummary `json:"hebbian"`
+}
+
+// CVReport is the cross-validated outcome of the main method with its
+// baselines, over the same folds.
+type CVReport struct {
+	Method           string                  `json:"method"`
+	Folds            int                     `json:"folds"`
+	Seed             uint64                  `json:"seed"`
+	Accuracy         Spread                  `json:"accuracy"`
+	BalancedAccuracy float64                 `json:"balanced_accuracy"`
+	MacroF1          float64                 `json:"macro_f1"`
+	Kappa            float64                 `json:"kappa"`
+	Confusion        *evaluate.Confusion     `json:"confusion"`
+	Classes          []evaluate.ClassMetrics `json:"classes"`
+	Baselines        Baselines               `json:"baselines"`
+}
+
+// NewCVReport gathers the cross-validation results of the main method and
+// its majority and Hebbian baselines.
+func NewCVReport(seed uint64, main, majority, hebbian *evaluate.CVResult) *CVReport {
+	c := main.Confusion
+	return &CVReport{
+		Method:           main.Method,
+		Folds:            len(main.FoldAccuracy),
+		Seed:             seed,
+		Accuracy:         Spread{Mean: main.Mean, SD: main.SD, Folds: main.FoldAccuracy},
+		BalancedAccuracy: c.BalancedAccuracy(),
+		MacroF1:          c.MacroF1(),
+		Kappa:            c.Kappa(),
+		Confusion:        c,
+		Classes:          c.PerClass(),
+		Baselines:        Baselines{Majority: summarise(majority), Hebbian: summarise(hebbian)},
+	}
+}
+
+func summarise(r *evaluate.CVResult) MethodSummary {
+	return MethodSummary{
+		Accuracy: r.Mean, SD: r.SD,
+		BalancedAccuracy: r.Confusion.BalancedAccuracy(),
+		MacroF1:          r.Confusion.MacroF1(),
+		Kappa:            r.Confusion.Kappa(),
+	}
+}
+
+// FitReport is what `deltafit fit` reports.
+type FitReport struct {
+	Data     DataSummary     `json:"data"`
+	Training TrainingSummary `json:"training"`
+	CV       *CVReport       `json:"cv,omitempty"`
+	Model    string          `json:"model,omitempty"` // path of the model file written
+}
+
+// EvaluationReport is what `deltafit evaluate` reports: a saved model's
+// confusion table and metrics on labelled data.
+type EvaluationReport struct {
+	Data             DataSummary             `json:"data"`
+	Model            string                  `json:"model"`
+	Accuracy         float64                 `json:"accuracy"`
+	BalancedAccuracy float64                 `json:"balanced_accuracy"`
+	MacroF1          float64                 `json:"macro_f1"`
+	Kappa            float64                 `json:"kappa"`
+	Confusion        *evaluate.Confusion     `json:"confusion"`
+	Classes          []evaluate.ClassMetrics `json:"classes"`
+}
+
+// NewEvaluationReport reads the metrics off a confusion table.
+func NewEvaluationReport(data DataSummary, model string, c *evaluate.Confusion) *EvaluationReport {
+	return &EvaluationReport{
+		Data: data, Model: model,
+		Accuracy: c.Accuracy(), BalancedAccuracy: c.BalancedAccuracy(),
+		MacroF1: c.MacroF1(), Kappa: c.Kappa(),
+		Confusion: c, Classes: c.PerClass(),
+	}
+}
+
+// WriteJSON writes v as indented JSON with a final newline.
+func WriteJSON(w io.Writer, v any) error {
+	b, err := json.MarshalIndent(v, "", "  ")
+	if err != nil {
+		return fmt.Errorf("export: %w", err)
+	}
+	_, err = w.Write(append(b, '\n'))
+	return err
+}
+
+// WriteFitReport writes r in the given format.
+func WriteFitReport(w io.Writer, format Format, r *FitReport) error {
+	if format == JSON {
+		return WriteJSON(w, r)
+	}
+	p := &printer{w: w, markdown: format == Markdown}
+	p.heading("deltafit fit")
+	p.data(r.Data)
+	t := r.Training
+	p.line("training: %s rule, %s units, rate %s (%s)", t.Rule, t.Unit, num(t.Rate), rateNote(t))
+	p.line("          %d epochs (stop: %s), %d training errors in %d rows (accuracy %s), loss %s",
+		t.Epochs, t.Stop, t.Errors, r.Data.Rows, num(t.Accuracy), num(t.Loss))
+	if r.Model != "" {
+		p.line("model: written to %s", r.Model)
+	}
+	if r.CV != nil {
+		p.cv(r.CV)
+	}
+	return p.err
+}
+
+// WriteEvaluationReport writes r in the given format.
+func WriteEvaluationReport(w io.Writer, format Format, r *EvaluationReport) error {
+	if format == JSON {
+		return WriteJSON(w, r)
+	}
+	p := &printer{w: w, markdown: format == Markdown}
+	p.heading("deltafit evaluate")
+	p.data(r.Data)
+	p.line("model: %s", r.Model)
+	p.line("accuracy %s, balanced accuracy %s, macro F1 %s, Cohen's kappa %s",
+		num(r.Accuracy), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa))
+	p.confusion("confusion table (rows: true class, columns: predicted)", r.Confusion)
+	p.classes(r.Classes)
+	return p.err
+}
+
+func rateNote(t TrainingSummary) string {
+	how := "given"
+	if t.RateAuto {
+		how = "automatic"
+	}
+	if t.LambdaMax <= 0 {
+		return how
+	}
+	return fmt.Sprintf("%s; λmax %s, stable below 2/λmax = %s", how, num(t.LambdaMax), num(t.StableBelow))
+}
+
+// printer writes the text and Markdown reports, keeping the first error.
+type printer struct {
+	w        io.Writer
+	markdown bool
+	err      error
+}
+
+func (p *printer) line(format string, args ...any) {
+	if p.err != nil {
+		return
+	}
+	if p.markdown {
+		format += "  " // a Markdown line break
+	}
+	_, p.err = fmt.Fprintf(p.w, format+"\n", args...)
+}
+
+func (p *printer) blank() {
+	if p.err == nil {
+		_, p.err = io.WriteString(p.w, "\n")
+	}
+}
+
+func (p *printer) heading(title string) {
+	if p.markdown {
+		p.line("## %s", title)
+		p.blank()
+	}
+}
+
+func (p *printer) subheading(title string) {
+	p.blank()
+	if p.markdown {
+		p.line("### %s", title)
+		p.blank()
+		return
+	}
+	p.line("%s", title)
+}
+
+func (p *printer) data(d DataSummary) {
+	p.line("data: %s, %d rows, %d feature columns encoded as %d input units", d.Source, d.Rows, d.Features, d.Inputs)
+	classes := ""
+	for i, l := range d.Labels {
+		if i > 0 {
+			classes += ", "
+		}
+		classes += fmt.Sprintf("%s %d", l, d.ClassCounts[i])
+	}
+	p.line("target: %s, %d classes (%s)", d.Target, len(d.Labels), classes)
+}
+
+func (p *printer) cv(r *CVReport) {
+	p.subheading(fmt.Sprintf("cross-validation: %d stratified folds, seed %d; encoding fitted on each training fold", r.Folds, r.Seed))
+	p.table([]string{"method", "accuracy", "sd", "balanced accuracy", "macro F1", "kappa"}, [][]string{
+		{r.Method, num(r.Accuracy.Mean), num(r.Accuracy.SD), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa)},
+		methodRow("hebbian", r.Baselines.Hebbian),
+		methodRow("majority", r.Baselines.Majority),
+	}, nil)
+	p.confusion("confusion table, "+r.Method+" rule, out-of-fold (rows: true class, columns: predicted)", r.Confusion)
+	p.classes(r.Classes)
+}
+
+func methodRow(name string, m MethodSummary) []string {
+	return []string{name, num(m.Accuracy), num(m.SD), num(m.BalancedAccuracy), num(m.MacroF1), num(m.Kappa)}
+}
+
+func (p *printer) confusion(title string, c *evaluate.Confusion) {
+	p.subheading(title)
+	header := append([]string{"true \\ predicted"}, c.Labels...)
+	header = append(header, "total")
+	rowTotals, colTotals := c.RowTotals(), c.ColTotals()
+	rows := make([][]string, len(c.Matrix))
+	for i, counts := range c.Matrix {
+		row := []string{c.Labels[i]}
+		for _, n := range counts {
+			row = append(row, strconv.Itoa(n))
+		}
+		rows[i] = append(row, strconv.Itoa(rowTotals[i]))
+	}
+	footer := []string{"total"}
+	for _, n := range colTotals {
+		footer = append(footer, strconv.Itoa(n))
+	}
+	footer = append(footer, strconv.Itoa(c.Total()))
+	p.table(header, rows, footer)
+}
+
+func (p *printer) classes(classes []evaluate.ClassMetrics) {
+	p.subheading("per class")
+	rows := make([][]string, len(classes))
+	for i, m := range classes {
+		rows[i] = []string{m.Label, num(m.Precision), num(m.Recall), num(m.F1), strconv.Itoa(m.Support)}
+	}
+	p.table([]string{"class", "precision", "recall", "F1", "support"}, rows, nil)
+}
+
+// table renders one table: ASCII boxes in text, a pipe table in Markdown.
+// The first column is left-aligned, the others right-aligned.
+func (p *printer) table(header []string, rows [][]string, footer []string) {
+	if p.err != nil {
+		return
+	}
+	align := make([]tw.Align, len(header))
+	for i := range align {
+		align[i] = tw.AlignRight
+	}
+	align[0] = tw.AlignLeft
+	cells := tw.CellAlignment{PerColumn: align}
+	opts := []tablewriter.Option{
+		tablewriter.WithHeaderAutoFormat(tw.Off),
+		tablewriter.WithFooterAutoFormat(tw.Off),
+		tablewriter.WithHeaderAlignmentConfig(cells),
+		tablewriter.WithRowAlignmentConfig(cells),
+		tablewriter.WithFooterAlignmentConfig(cells),
+	}
+	if p.markdown {
+		opts = append(opts, tablewriter.WithRenderer(renderer.NewMarkdown()))
+	} else {
+		opts = append(opts, tablewriter.WithRendition(tw.Rendition{Symbols: tw.NewSymbols(tw.StyleASCII)}))
+	}
+	t := tablewriter.NewTable(p.w, opts...)
+	t.Header(header)
+	if err := t.Bulk(rows); err != nil {
+		p.err = err
+		return
+	}
+	if footer != nil {
+		if p.markdown {
+			// Markdown has no footer row: the totals are an ordinary row.
+			if err := t.Append(footer); err != nil {
+				p.err = err
+				return
+			}
+		} else {
+			t.Footer(footer)
+		}
+	}
+	p.err = t.Render()
+}
+
+// num formats a metric with four decimals, or in %g for very small or
+// very large magnitudes.
+func num(x float64) string {
+	if x != 0 && (x < 1e-3 && x > -1e-3 || x >= 1e6 || x <= -1e6) {
+		return strconv.FormatFloat(x, 'g', 4, 64)
+	}
+	return strconv.FormatFloat(x, 'f', 4, 64)
+}
