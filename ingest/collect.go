@@ -37,6 +37,11 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*Table, erro
 		if f.Name == "" {
 			return nil, &DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column has no name; give every column a name in the header")}
 		}
+		if !utf8.ValidString(f.Name) {
+			// A model file stores names as JSON, which would replace the
+			// bad bytes, and the name would no longer match this column.
+			return nil, &DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column name is not valid UTF-8 text; re-save the file as UTF-8")}
+		}
 		if j, dup := seen[f.Name]; dup {
 			return nil, &DataError{File: name, Line: 1, Column: i + 1, Name: f.Name,
 				Err: fmt.Errorf("the column name is also used by column %d; column names must be unique", j+1)}

@@ -153,7 +153,7 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 	if delim == 0 {
 		delim = ','
 	}
-	names, err := peekHeader(br, delim)
+	names, br, err := peekHeader(br, delim)
 	if err != nil {
 		return nil, &DataError{File: name, Line: 1, Err: err}
 	}
@@ -172,39 +172,42 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 
 // peekHeader parses the header record without consuming it, so the Arrow
 // reader can be given a schema with the right number of string columns.
-func peekHeader(br *bufio.Reader, delim rune) ([]string, error) {
-	var buf []byte
+// A header wider than br's buffer is peeked through a larger reader on top
+// of br, which it returns for the rest of the input.
+func peekHeader(br *bufio.Reader, delim rune) ([]string, *bufio.Reader, error) {
 	for size := 4 << 10; ; size *= 4 {
-		if size > MaxHeaderBytes {
-			size = MaxHeaderBytes
+		size = min(size, MaxHeaderBytes)
+		if size > br.Size() {
+			br = bufio.NewReaderSize(br, MaxHeaderBytes)
 		}
-		b, err := br.Peek(size)
-		buf = b
-		if len(b) < size || size == MaxHeaderBytes || err != nil {
-			break
+		buf, err := br.Peek(size)
+		whole := len(buf) < size // buf holds the rest of the input
+		if whole && err != nil && !errors.Is(err, io.EOF) {
+			return nil, br, err
 		}
-		if i := bytes.IndexByte(b, '\n'); i >= 0 {
-			break
+		if whole && len(bytes.TrimSpace(buf)) == 0 {
+			return nil, br, ErrEmpty
 		}
-	}
-	if len(bytes.TrimSpace(buf)) == 0 {
-		return nil, ErrEmpty
-	}
-	cr := csv.NewReader(bytes.NewReader(buf))
-	cr.Comma = delim
-	names, err := cr.Read()
-	if err != nil {
+		cr := csv.NewReader(bytes.NewReader(buf))
+		cr.Comma = delim
+		names, perr := cr.Read()
+		// The record is complete if it ends inside the window (a quoted
+		// field may hold line breaks, so the first '\n' is not enough).
+		if perr == nil && (whole || cr.InputOffset() < int64(len(buf))) {
+			return names, br, nil
+		}
+		if !whole && size < MaxHeaderBytes {
+			continue
+		}
+		if perr == nil {
+			return nil, br, fmt.Errorf("the header line is longer than %d bytes", MaxHeaderBytes)
+		}
 		var pe *csv.ParseError
-		if errors.As(err, &pe) {
-			return nil, fmt.Errorf("cannot read the header: %v", pe.Err)
+		if errors.As(perr, &pe) {
+			return nil, br, fmt.Errorf("cannot read the header: %v", pe.Err)
 		}
-		return nil, fmt.Errorf("cannot read the header: %v", err)
+		return nil, br, fmt.Errorf("cannot read the header: %v", perr)
 	}
-	// A header that fills the whole window without ending is too long.
-	if len(buf) == MaxHeaderBytes && bytes.IndexByte(buf, '\n') < 0 {
-		return nil, fmt.Errorf("the header line is longer than %d bytes", MaxHeaderBytes)
-	}
-	return names, nil
 }
 
 func newArrowFileReader(name string, data []byte, opts ReadOptions) (array.RecordReader, error) {
