@@ -37,7 +37,6 @@ per-class precision, recall, F1 and support.
 	opts.input.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.model, "model", "", "model file written by fit -o (required)")
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
-	_ = cmd.MarkFlagRequired("model")
 	return cmd
 }
 

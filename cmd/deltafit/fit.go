@@ -41,13 +41,15 @@ func (f *learnFlags) add(cmd *cobra.Command) {
 	fs.IntVar(&f.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
 	fs.StringVar(&f.rate, "rate", "auto", `learning rate: a positive number, or "auto" to derive it from the inputs`)
 	fs.Uint64Var(&f.seed, "seed", 1, "seed for the order of updates and the folds")
-	_ = cmd.MarkFlagRequired("target")
 }
 
 // learner turns the flags into a Learner, checking every value.
 func (f *learnFlags) learner() (evaluate.Learner, error) {
 	var l evaluate.Learner
 	var err error
+	if f.target == "" {
+		return l, usagef("--target is required: name the column that holds the class")
+	}
 	if l.Plan.Numeric, err = ingest.ParseNumericEncoding(f.numeric); err != nil {
 		return l, usagef("--numeric: %v", err)
 	}

@@ -19,6 +19,9 @@ type modelInput struct {
 // load reads the model and then the data, read with the kinds the model's
 // plan expects (a --kind flag still wins).
 func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *ingest.Table, string, error) {
+	if m.model == "" {
+		return nil, nil, "", usagef("--model is required: give a model file written by fit -o")
+	}
 	f, err := os.Open(m.model)
 	if err != nil {
 		return nil, nil, "", fmt.Errorf("cannot open the model: %w", err)

@@ -36,7 +36,6 @@ Output goes to stdout, or atomically to the file given with -o.
 	opts.input.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.model, "model", "", "model file written by fit -o (required)")
 	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the predictions here instead of stdout")
-	_ = cmd.MarkFlagRequired("model")
 	return cmd
 }
 

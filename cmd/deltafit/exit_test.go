@@ -1,0 +1,53 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// The exit codes are a contract: 0 ok, 1 data or runtime error, 2 usage.
+func TestExitCodes(t *testing.T) {
+	iris := filepath.Join("..", "..", "testdata", "iris.csv")
+	xor := filepath.Join("..", "..", "testdata", "xor.csv")
+	for _, tc := range []struct {
+		name string
+		args []string
+		code int
+		err  string // substring of the one stderr line
+	}{
+		{"ok", []string{"fit", iris, "--target", "species"}, 0, ""},
+		{"no args", []string{"fit"}, 2, "accepts 1 arg"},
+		{"unknown flag", []string{"fit", iris, "--target", "species", "--nope"}, 2, "unknown flag"},
+		{"missing target flag", []string{"fit", iris}, 2, "--target is required"},
+		{"bad rule", []string{"fit", iris, "--target", "species", "--rule", "magic"}, 2, "--rule"},
+		{"bad encoding", []string{"fit", iris, "--target", "species", "--numeric", "thermometer:1"}, 2, "--numeric"},
+		{"one fold", []string{"fit", iris, "--target", "species", "--folds", "1"}, 2, "--folds 1"},
+		{"unknown target", []string{"fit", iris, "--target", "colour"}, 1, `column colour: there is no target column of that name`},
+		{"no such file", []string{"fit", "nope.csv", "--target", "y"}, 1, "cannot open the data"},
+		{"too many folds for a class", []string{"fit", xor, "--target", "y", "--folds", "3"}, 1, `class "0" has 2 rows; 3 folds need at least 3`},
+		// Widrow & Stearns 1985: LMS diverges for rates above 2/λmax.
+		{"divergence", []string{"fit", iris, "--target", "species", "--unit", "linear", "--rate", "50"}, 1, "try --rate auto"},
+		{"missing model", []string{"predict", "--model", "none.json", iris}, 1, "cannot open the model"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var stdout, stderr bytes.Buffer
+			code := run(context.Background(), tc.args, strings.NewReader(""), &stdout, &stderr)
+			if code != tc.code {
+				t.Fatalf("exit code %d, want %d; stderr: %s", code, tc.code, stderr.String())
+			}
+			if tc.err == "" {
+				if stderr.Len() != 0 {
+					t.Fatalf("unexpected stderr: %s", stderr.String())
+				}
+				return
+			}
+			lines := strings.Split(strings.TrimRight(stderr.String(), "\n"), "\n")
+			if len(lines) != 1 || !strings.HasPrefix(lines[0], "deltafit: ") || !strings.Contains(lines[0], tc.err) {
+				t.Fatalf("stderr %q, want one line containing %q", stderr.String(), tc.err)
+			}
+		})
+	}
+}
