@@ -1,0 +1,201 @@
+package ingest_test
+
+import (
+	"slices"
+	"strconv"
+	"strings"
+	"testing"
+
+	"deltafit/ingest"
+)
+
+func columnNames(cols []*ingest.Column) []string {
+	names := make([]string, len(cols))
+	for i, c := range cols {
+		names[i] = c.Name
+	}
+	return names
+}
+
+func TestNewDataset(t *testing.T) {
+	iris := readIris(t)
+	t.Run("features are the other columns in table order", func(t *testing.T) {
+		d, err := ingest.NewDataset(iris, "species", nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got, want := columnNames(d.Features), irisColumns[:4]; !slices.Equal(got, want) {
+			t.Errorf("features = %q, want %q", got, want)
+		}
+		for i, k := range d.Classes {
+			if d.Labels[k] != iris.Column("species").Text[i] {
+				t.Fatalf("row %d: class %d (%s), want %s", i+1, k, d.Labels[k], iris.Column("species").Text[i])
+			}
+		}
+	})
+	t.Run("ignored columns are not features", func(t *testing.T) {
+		d, err := ingest.NewDataset(iris, "species", []string{"sepal_width", "petal_length"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got, want := columnNames(d.Features), []string{"sepal_length", "petal_width"}; !slices.Equal(got, want) {
+			t.Errorf("features = %q, want %q", got, want)
+		}
+	})
+	t.Run("any column can be the target", func(t *testing.T) {
+		d, err := ingest.NewDataset(iris, "sepal_length", []string{"species"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got, want := columnNames(d.Features), irisColumns[1:4]; !slices.Equal(got, want) {
+			t.Errorf("features = %q, want %q", got, want)
+		}
+	})
+}
+
+// TestDatasetLabelOrder: labels sort numerically when all are numbers,
+// else as text, and Labels[Classes[i]] is the target value of row i.
+func TestDatasetLabelOrder(t *testing.T) {
+	// Petal width in tenths of a centimetre: whole numbers 1 to 25, whose
+	// text order ("1" < "10" < "2") differs from their numeric order.
+	tenths := editIris(t, func(c [][]string) {
+		for r := 1; r < len(c); r++ {
+			x, err := strconv.ParseFloat(c[r][3], 64)
+			if err != nil {
+				t.Fatal(err)
+			}
+			c[r][3] = strconv.Itoa(int(x*10 + 0.5))
+		}
+	})
+	tests := []struct {
+		name    string
+		text    string
+		kinds   map[string]ingest.Kind
+		target  string
+		compare func(a, b string) int
+	}{
+		{"text labels in text order", string(irisBytes(t)), nil, "species", strings.Compare},
+		{"numeric labels in numeric order", tenths, nil, "petal_width", compareNumbers},
+		{"numbers declared categorical still sort as numbers", tenths, map[string]ingest.Kind{"petal_width": ingest.Categorical}, "petal_width", compareNumbers},
+		{"numbers mixed with a word sort as text", editIris(t, func(c [][]string) { c[0][3], c[150][3] = "petal_width", "wide" }),
+			map[string]ingest.Kind{"petal_width": ingest.Categorical}, "petal_width", strings.Compare},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			tab := readCSVText(t, "iris.csv", tt.text, ingest.ReadOptions{Kinds: tt.kinds})
+			d, err := ingest.NewDataset(tab, tt.target, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.IsSortedFunc(d.Labels, tt.compare) {
+				t.Errorf("labels %q are not in the expected order", d.Labels)
+			}
+			distinct := map[string]bool{}
+			col := tab.Column(tt.target)
+			for i, k := range d.Classes {
+				distinct[col.Value(i)] = true
+				if d.Labels[k] != col.Value(i) {
+					t.Fatalf("row %d: label %q, want %q", i+1, d.Labels[k], col.Value(i))
+				}
+			}
+			if len(d.Labels) != len(distinct) {
+				t.Errorf("%d labels for %d distinct values", len(d.Labels), len(distinct))
+			}
+		})
+	}
+}
+
+func compareNumbers(a, b string) int {
+	x, errA := strconv.ParseFloat(a, 64)
+	y, errB := strconv.ParseFloat(b, 64)
+	if errA != nil || errB != nil {
+		panic("compareNumbers: not a number")
+	}
+	switch {
+	case x < y:
+		return -1
+	case x > y:
+		return 1
+	}
+	return 0
+}
+
+func TestNewDatasetErrors(t *testing.T) {
+	iris := readIris(t)
+	// The header and the first 50 rows, all setosa.
+	setosaOnly := readCSVText(t, "iris.csv", joinCells(irisCells(t)[:51], ",", "\n"), ingest.ReadOptions{})
+	gaps := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
+	tests := []struct {
+		name     string
+		table    *ingest.Table
+		target   string
+		ignore   []string
+		row      int
+		column   int
+		colName  string
+		contains string
+	}{
+		{"unknown target lists the columns", iris, "class", nil, 0, 0, "class",
+			`the columns are "sepal_length", "sepal_width", "petal_length", "petal_width", "species"`},
+		{"missing target cell names its row", gaps, "species", nil, 5, 5, "species", "target cell is missing"},
+		{"a single class", setosaOnly, "species", nil, 0, 5, "species", `the same class "setosa"`},
+		{"ignoring the target", iris, "species", []string{"species"}, 0, 0, "species", "cannot also be ignored"},
+		{"ignoring an unknown column", iris, "species", []string{"sepal"}, 0, 0, "sepal", `the columns are "sepal_length"`},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			_, err := ingest.NewDataset(tt.table, tt.target, tt.ignore)
+			de := asDataError(t, err)
+			if de.Row != tt.row || de.Column != tt.column || de.Name != tt.colName || de.File != "iris.csv" {
+				t.Errorf("error at %q row %d, column %d (%q); want iris.csv row %d, column %d (%q): %v",
+					de.File, de.Row, de.Column, de.Name, tt.row, tt.column, tt.colName, err)
+			}
+			if !strings.Contains(err.Error(), tt.contains) {
+				t.Errorf("error %q does not say %q", err, tt.contains)
+			}
+		})
+	}
+}
+
+func TestTargetClasses(t *testing.T) {
+	iris := readIris(t)
+	d, err := ingest.NewDataset(iris, "species", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Run("the dataset's labels give its classes", func(t *testing.T) {
+		got, err := ingest.TargetClasses(iris, "species", d.Labels)
+		if err != nil || !slices.Equal(got, d.Classes) {
+			t.Fatalf("got %v, %v; want the dataset's classes", got, err)
+		}
+	})
+	t.Run("classes follow the order of the given labels", func(t *testing.T) {
+		reversed := slices.Clone(d.Labels)
+		slices.Reverse(reversed)
+		got, err := ingest.TargetClasses(iris, "species", reversed)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, k := range got {
+			if k != len(d.Labels)-1-d.Classes[i] {
+				t.Fatalf("row %d: class %d, want %d", i+1, k, len(d.Labels)-1-d.Classes[i])
+			}
+		}
+	})
+	t.Run("an unknown label names the first row that has it", func(t *testing.T) {
+		_, err := ingest.TargetClasses(iris, "species", []string{"setosa", "versicolor"})
+		de := asDataError(t, err)
+		if de.Row != 101 || de.Column != 5 || de.Name != "species" { // testdata/iris.csv, like UCI iris.data, lists the species in blocks of 50
+			t.Errorf("error at row %d, column %d (%q), want row 101, column 5 (species): %v", de.Row, de.Column, de.Name, err)
+		}
+		if !strings.Contains(err.Error(), `"virginica"`) || !strings.Contains(err.Error(), `"setosa", "versicolor"`) {
+			t.Errorf("error %q does not name the label and the known ones", err)
+		}
+	})
+	t.Run("an unknown target column", func(t *testing.T) {
+		_, err := ingest.TargetClasses(iris, "class", d.Labels)
+		if de := asDataError(t, err); de.Name != "class" {
+			t.Errorf("error names %q, want class: %v", de.Name, err)
+		}
+	})
+}
