@@ -3,7 +3,9 @@ package evaluate
 import (
 	"errors"
 	"fmt"
+	"runtime"
 	"strconv"
+	"sync"
 
 	"deltafit/fit"
 	"deltafit/ingest"
@@ -122,23 +124,51 @@ type CVResult struct {
 }
 
 // CrossValidate trains on all folds but one and predicts the held-out
-// fold, for each fold in turn, and pools the predictions.
+// fold, for each fold in turn, and pools the predictions. Folds run in
+// parallel on up to GOMAXPROCS goroutines, so m.Predict must be safe for
+// concurrent use; the result does not depend on the schedule.
 func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error) {
+	type outcome struct {
+		confusion *Confusion
+		err       error
+	}
+	outcomes := make([]outcome, len(folds))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < min(runtime.GOMAXPROCS(0), len(folds)); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range next {
+				test := folds[k]
+				predicted, err := m.Predict(TrainRows(folds, k), test)
+				if err != nil {
+					outcomes[k].err = fmt.Errorf("fold %d of %d: %w", k+1, len(folds), err)
+					continue
+				}
+				fold := NewConfusion(d.Labels)
+				for i, r := range test {
+					fold.Add(d.Classes[r], predicted[i])
+				}
+				outcomes[k].confusion = fold
+			}
+		}()
+	}
+	for k := range folds {
+		next <- k
+	}
+	close(next)
+	wg.Wait()
+
 	res := &CVResult{Method: m.Name, Confusion: NewConfusion(d.Labels)}
-	for k, test := range folds {
-		train := TrainRows(folds, k)
-		predicted, err := m.Predict(train, test)
-		if err != nil {
-			return nil, fmt.Errorf("fold %d of %d: %w", k+1, len(folds), err)
+	for _, o := range outcomes {
+		if o.err != nil {
+			return nil, o.err
 		}
-		fold := NewConfusion(d.Labels)
-		for i, r := range test {
-			fold.Add(d.Classes[r], predicted[i])
-		}
-		if err := res.Confusion.Merge(fold); err != nil {
+		if err := res.Confusion.Merge(o.confusion); err != nil {
 			return nil, err
 		}
-		res.FoldAccuracy = append(res.FoldAccuracy, fold.Accuracy())
+		res.FoldAccuracy = append(res.FoldAccuracy, o.confusion.Accuracy())
 	}
 	res.Mean, res.SD = MeanSD(res.FoldAccuracy)
 	return res, nil
