@@ -331,6 +331,11 @@ func meanSD(values []float64) (mean, sd float64) {
 	if len(values) == 0 {
 		return 0, 0
 	}
+	// A constant column has sd 0 exactly; summing would leave rounding
+	// (1.4+1.4+1.4)/3 ≠ 1.4, an sd near 1e-16 and units near 1e16.
+	if lo := slices.Min(values); lo == slices.Max(values) {
+		return lo, 0
+	}
 	for _, v := range values {
 		mean += v
 	}
