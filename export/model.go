@@ -135,6 +135,12 @@ func ReadModel(name string, r io.Reader) (*Model, error) {
 
 func describeJSONError(b []byte, err error) string {
 	var se *json.SyntaxError
+	if len(bytes.TrimSpace(b)) == 0 {
+		return "the file is empty"
+	}
+	if errors.As(err, &se) && se.Offset >= int64(len(bytes.TrimRight(b, " \t\r\n"))) {
+		return "the JSON ends early; is the file truncated?"
+	}
 	if errors.As(err, &se) {
 		line := 1 + bytes.Count(b[:min(int(se.Offset), len(b))], []byte("\n"))
 		return fmt.Sprintf("invalid JSON at line %d: %v", line, se)

@@ -236,13 +236,17 @@ type printer struct {
 }
 
 func (p *printer) line(format string, args ...any) {
-	if p.err != nil {
-		return
-	}
 	if p.markdown {
 		format += "  " // a Markdown line break
 	}
-	_, p.err = fmt.Fprintf(p.w, format+"\n", args...)
+	p.raw(format, args...)
+}
+
+// raw writes one line as it is.
+func (p *printer) raw(format string, args ...any) {
+	if p.err == nil {
+		_, p.err = fmt.Fprintf(p.w, format+"\n", args...)
+	}
 }
 
 func (p *printer) blank() {
@@ -253,7 +257,7 @@ func (p *printer) blank() {
 
 func (p *printer) heading(title string) {
 	if p.markdown {
-		p.line("## %s", title)
+		p.raw("## %s", title)
 		p.blank()
 	}
 }
@@ -261,11 +265,11 @@ func (p *printer) heading(title string) {
 func (p *printer) subheading(title string) {
 	p.blank()
 	if p.markdown {
-		p.line("### %s", title)
+		p.raw("### %s", title)
 		p.blank()
 		return
 	}
-	p.line("%s", title)
+	p.raw("%s", title)
 }
 
 func (p *printer) data(d DataSummary) {
