@@ -74,13 +74,13 @@ func tableRecord(t testing.TB, mem memory.Allocator, tab *ingest.Table) arrow.Re
 	fields := make([]arrow.Field, len(tab.Columns))
 	arrays := make([]arrow.Array, len(tab.Columns))
 	for i, col := range tab.Columns {
+		var bld array.Builder
+		var typ arrow.DataType
 		switch col.Kind {
 		case ingest.Numeric:
 			b := array.NewFloat64Builder(mem)
 			b.AppendValues(col.Numbers, valid(col))
-			arrays[i] = b.NewArray()
-			b.Release()
-			fields[i] = arrow.Field{Name: col.Name, Type: arrow.PrimitiveTypes.Float64, Nullable: true}
+			bld, typ = b, arrow.PrimitiveTypes.Float64
 		case ingest.Boolean:
 			b := array.NewBooleanBuilder(mem)
 			values := make([]bool, len(col.Numbers))
@@ -88,18 +88,17 @@ func tableRecord(t testing.TB, mem memory.Allocator, tab *ingest.Table) arrow.Re
 				values[r] = v != 0
 			}
 			b.AppendValues(values, valid(col))
-			arrays[i] = b.NewArray()
-			b.Release()
-			fields[i] = arrow.Field{Name: col.Name, Type: arrow.FixedWidthTypes.Boolean, Nullable: true}
+			bld, typ = b, arrow.FixedWidthTypes.Boolean
 		case ingest.Categorical:
 			b := array.NewStringBuilder(mem)
 			b.AppendValues(col.Text, valid(col))
-			arrays[i] = b.NewArray()
-			b.Release()
-			fields[i] = arrow.Field{Name: col.Name, Type: arrow.BinaryTypes.String, Nullable: true}
+			bld, typ = b, arrow.BinaryTypes.String
 		default:
 			t.Fatalf("column %s has kind %v", col.Name, col.Kind)
 		}
+		arrays[i] = bld.NewArray()
+		bld.Release()
+		fields[i] = arrow.Field{Name: col.Name, Type: typ, Nullable: true}
 	}
 	rec := array.NewRecordBatch(arrow.NewSchema(fields, nil), arrays, int64(tab.Rows))
 	for _, a := range arrays {

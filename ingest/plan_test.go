@@ -364,38 +364,43 @@ func allPlanOptions(t testing.TB) map[string]ingest.PlanOptions {
 	return all
 }
 
+// eachIrisPlan runs check as a subtest for a plan of every encoding of
+// allPlanOptions, fitted on all rows of Iris with gaps.
+func eachIrisPlan(t *testing.T, check func(t *testing.T, tab *ingest.Table, p *ingest.Plan)) {
+	tab := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
+	for name, opts := range allPlanOptions(t) {
+		t.Run(name, func(t *testing.T) { check(t, tab, fitPlan(t, tab.Columns, nil, opts)) })
+	}
+}
+
 // TestEncodeUnitRange: over Iris with gaps and a boolean column, every unit
 // of every encoding is in [0,1] except zscore; one-hot features have exactly
 // one unit on; thermometer units are on up to some k and off above it.
 func TestEncodeUnitRange(t *testing.T) {
-	tab := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
-	for name, opts := range allPlanOptions(t) {
-		t.Run(name, func(t *testing.T) {
-			p := fitPlan(t, tab.Columns, nil, opts)
-			if len(p.UnitNames()) != p.Width() {
-				t.Fatalf("%d unit names for width %d", len(p.UnitNames()), p.Width())
-			}
-			patterns, _ := p.EncodeTo(nil, tab.Columns, nil)
-			if len(patterns) != tab.Rows*p.Width() {
-				t.Fatalf("%d values, want %d rows × %d", len(patterns), tab.Rows, p.Width())
-			}
-			row := patterns
-			for r := range tab.Rows {
-				for i, f := range p.Features {
-					units := row[:f.Width()]
-					row = row[f.Width():]
-					values := units
-					if f.Missing {
-						values = units[:len(units)-1]
-					}
-					missing := tab.Columns[i].IsMissing(r)
-					if err := checkUnits(f, values, missing); err != nil {
-						t.Fatalf("row %d, %s: %v", r+1, f.Column, err)
-					}
+	eachIrisPlan(t, func(t *testing.T, tab *ingest.Table, p *ingest.Plan) {
+		if len(p.UnitNames()) != p.Width() {
+			t.Fatalf("%d unit names for width %d", len(p.UnitNames()), p.Width())
+		}
+		patterns, _ := p.EncodeTo(nil, tab.Columns, nil)
+		if len(patterns) != tab.Rows*p.Width() {
+			t.Fatalf("%d values, want %d rows × %d", len(patterns), tab.Rows, p.Width())
+		}
+		row := patterns
+		for r := range tab.Rows {
+			for i, f := range p.Features {
+				units := row[:f.Width()]
+				row = row[f.Width():]
+				values := units
+				if f.Missing {
+					values = units[:len(units)-1]
+				}
+				missing := tab.Columns[i].IsMissing(r)
+				if err := checkUnits(f, values, missing); err != nil {
+					t.Fatalf("row %d, %s: %v", r+1, f.Column, err)
 				}
 			}
-		})
-	}
+		}
+	})
 }
 
 func checkUnits(f ingest.Feature, values []float64, missing bool) error {
@@ -564,31 +569,27 @@ func firstColumns(cells [][]string, n int) [][]string {
 // TestPlanJSON: a plan written to JSON and read back is the same plan and
 // encodes every row identically.
 func TestPlanJSON(t *testing.T) {
-	tab := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
-	for name, opts := range allPlanOptions(t) {
-		t.Run(name, func(t *testing.T) {
-			p := fitPlan(t, tab.Columns, nil, opts)
-			data, err := json.Marshal(p)
-			if err != nil {
-				t.Fatal(err)
-			}
-			var back ingest.Plan
-			if err := json.Unmarshal(data, &back); err != nil {
-				t.Fatal(err)
-			}
-			if !reflect.DeepEqual(&back, p) {
-				t.Errorf("read back %+v, want %+v", back, *p)
-			}
-			want, _ := p.EncodeTo(nil, tab.Columns, nil)
-			cols, err := back.Bind(tab)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if got, _ := back.EncodeTo(nil, cols, nil); !slices.Equal(got, want) {
-				t.Error("the plan read back encodes differently")
-			}
-		})
-	}
+	eachIrisPlan(t, func(t *testing.T, tab *ingest.Table, p *ingest.Plan) {
+		data, err := json.Marshal(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var back ingest.Plan
+		if err := json.Unmarshal(data, &back); err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(&back, p) {
+			t.Errorf("read back %+v, want %+v", back, *p)
+		}
+		want, _ := p.EncodeTo(nil, tab.Columns, nil)
+		cols, err := back.Bind(tab)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got, _ := back.EncodeTo(nil, cols, nil); !slices.Equal(got, want) {
+			t.Error("the plan read back encodes differently")
+		}
+	})
 }
 
 // TestEncodeToRows: encoding a subset of rows gives those rows of the full
