@@ -51,7 +51,7 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*Table, erro
 	}
 	for col := range opts.Kinds {
 		if _, ok := seen[col]; !ok {
-			return nil, &DataError{File: name, Name: col, Err: errors.New("a kind is given for this column but the input has no such column")}
+			return nil, &DataError{File: name, Name: col, Err: fmt.Errorf("a kind is given for this column but the input has %w", ErrNoColumn)}
 		}
 	}
 	rows := 0
@@ -94,7 +94,7 @@ func readError(name string, rows int, err error) *DataError {
 		case errors.Is(pe.Err, csv.ErrFieldCount):
 			de.Err = errors.New("the row has a different number of fields than the header; check the delimiter and quoting")
 		case errors.Is(pe.Err, csv.ErrQuote), errors.Is(pe.Err, csv.ErrBareQuote):
-			de.Err = fmt.Errorf("%v (at line %d); close the quote or double a quote inside a quoted field", pe.Err, pe.Line)
+			de.Err = fmt.Errorf("%v; close the quote, or double a quote inside a quoted field", pe.Err)
 		default:
 			de.Err = pe.Err
 		}
@@ -201,6 +201,9 @@ func (b *columnBuilder) append(arr arrow.Array, rowBase int) *DataError {
 }
 
 func (b *columnBuilder) appendText(v string, row int) *DataError {
+	if len(v) > MaxCellBytes {
+		return b.fail(row, fmt.Errorf("the cell holds %d bytes, over the cap of %d; is a quote left open, or should the column be left out?", len(v), MaxCellBytes))
+	}
 	if !utf8.ValidString(v) {
 		return b.fail(row, errors.New("the cell is not valid UTF-8 text; re-save the file as UTF-8"))
 	}
@@ -292,11 +295,13 @@ func (b *columnBuilder) finish(kind Kind, declared bool) (*Column, *DataError) {
 			continue
 		}
 		x, err := parseNumber(v)
-		if err != nil {
-			if !declared {
-				err = fmt.Errorf("%w, though %d of the column's %d values are numbers; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical",
-					err, numbers, len(b.text)-countTrue(b.missing))
-			}
+		switch {
+		case errors.Is(err, errNotNumber) && declared:
+			return nil, b.fail(i+1, fmt.Errorf("%w in a column declared numeric; fix the cell, or leave it empty or write NA if it is missing", err))
+		case errors.Is(err, errNotNumber):
+			return nil, b.fail(i+1, fmt.Errorf("%w, though %d of the column's %d values are; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical",
+				err, numbers, len(b.text)-countTrue(b.missing)))
+		case err != nil:
 			return nil, b.fail(i+1, err)
 		}
 		col.Numbers[i] = x
@@ -342,6 +347,9 @@ func (b *columnBuilder) numberCount() int {
 	return n
 }
 
+// errNotNumber marks text that does not read as a number at all.
+var errNotNumber = errors.New("is not a number")
+
 // parseNumber reads a finite float64. NaN, infinities and out-of-range
 // values are errors: a missing value is written as an empty cell or NA.
 func parseNumber(v string) (float64, error) {
@@ -350,7 +358,7 @@ func parseNumber(v string) (float64, error) {
 	case errors.Is(err, strconv.ErrRange):
 		return 0, fmt.Errorf("%q is outside the range of a 64-bit float", v)
 	case err != nil:
-		return 0, fmt.Errorf("%q is not a number", v)
+		return 0, fmt.Errorf("%q %w", v, errNotNumber)
 	case math.IsNaN(x) || math.IsInf(x, 0):
 		return 0, fmt.Errorf("%q is not a finite number; leave the cell empty or write NA if it is missing", v)
 	}

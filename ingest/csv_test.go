@@ -299,7 +299,7 @@ func TestDataErrorMessage(t *testing.T) {
 		err  *ingest.DataError
 		want string
 	}{
-		{"every field", &ingest.DataError{File: "iris.csv", Row: 42, Line: 43, Column: 3, Name: "petal_length", Err: cause}, `iris.csv: row 42, column 3 (petal_length): "abc" is not a number`},
+		{"every field", &ingest.DataError{File: "iris.csv", Row: 42, Line: 43, Column: 3, Name: "petal_length", Err: cause}, `iris.csv: row 42 (line 43), column 3 (petal_length): "abc" is not a number`},
 		{"line when no row", &ingest.DataError{File: "iris.csv", Line: 1, Column: 2, Err: cause}, `iris.csv: line 1, column 2: "abc" is not a number`},
 		{"name only", &ingest.DataError{File: "iris.csv", Name: "petal", Err: cause}, `iris.csv: column petal: "abc" is not a number`},
 		{"stdin", &ingest.DataError{File: "-", Err: ingest.ErrEmpty}, "stdin: the input is empty"},

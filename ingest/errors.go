@@ -22,6 +22,8 @@ func (e *DataError) Error() string {
 	b.WriteString(displayName(e.File))
 	var pos []string
 	switch {
+	case e.Row > 0 && e.Line > 0:
+		pos = append(pos, fmt.Sprintf("row %d (line %d)", e.Row, e.Line))
 	case e.Row > 0:
 		pos = append(pos, fmt.Sprintf("row %d", e.Row))
 	case e.Line > 0:
@@ -58,4 +60,5 @@ var (
 	ErrEmpty       = errors.New("the input is empty")
 	ErrNoRows      = errors.New("the input has a header but no data rows")
 	ErrUnsupported = errors.New("unsupported input")
+	ErrNoColumn    = errors.New("no such column")
 )

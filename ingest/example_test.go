@@ -31,7 +31,7 @@ func ExampleReadTable_error() {
 	_, err := ingest.ReadTable("fruit.csv", strings.NewReader(text), ingest.ReadOptions{})
 	fmt.Println(err)
 	// Output:
-	// fruit.csv: row 2, column 1 (size): "big" is not a number, though 2 of the column's 3 values are numbers; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical
+	// fruit.csv: row 2, column 1 (size): "big" is not a number, though 2 of the column's 3 values are; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical
 }
 
 // ExampleFitPlan fits a thermometer encoding on the training rows and
