@@ -340,11 +340,22 @@ func (b *columnBuilder) numberCount() int {
 		if b.missing[i] {
 			continue
 		}
-		if _, err := strconv.ParseFloat(strings.TrimSpace(v), 64); err == nil || errors.Is(err, strconv.ErrRange) {
+		if _, err := readFloat(v); err == nil || errors.Is(err, strconv.ErrRange) {
 			n++
 		}
 	}
 	return n
+}
+
+// readFloat reads decimal notation only: strconv.ParseFloat also takes hex
+// floats ("0x1p-2") and digit separators ("1_000"), which in a table are
+// far more likely codes than numbers.
+func readFloat(v string) (float64, error) {
+	v = strings.TrimSpace(v)
+	if strings.ContainsAny(v, "xX_") {
+		return 0, strconv.ErrSyntax
+	}
+	return strconv.ParseFloat(v, 64)
 }
 
 // errNotNumber marks text that does not read as a number at all.
@@ -353,7 +364,7 @@ var errNotNumber = errors.New("is not a number")
 // parseNumber reads a finite float64. NaN, infinities and out-of-range
 // values are errors: a missing value is written as an empty cell or NA.
 func parseNumber(v string) (float64, error) {
-	x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
+	x, err := readFloat(v)
 	switch {
 	case errors.Is(err, strconv.ErrRange):
 		return 0, fmt.Errorf("%q is outside the range of a 64-bit float", v)
