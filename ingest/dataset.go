@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"slices"
 	"strconv"
+	"strings"
 )
 
 // Dataset is a table with a chosen target column: the class of each row and
@@ -22,7 +23,7 @@ type Dataset struct {
 func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	col := t.Column(target)
 	if col == nil {
-		return nil, &DataError{File: t.Name, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s", columnList(t))}
+		return nil, &DataError{File: t.Name, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s%s", columnList(t), delimiterHint(t))}
 	}
 	for _, name := range ignore {
 		if name == target {
@@ -45,9 +46,27 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 		if c == col || slices.Contains(ignore, c.Name) {
 			continue
 		}
+		if c.MissingCount() == t.Rows {
+			return nil, &DataError{File: t.Name, Column: t.columnIndex(c.Name) + 1, Name: c.Name,
+				Err: errors.New("every cell of the column is missing; fill it in or ignore the column")}
+		}
 		d.Features = append(d.Features, c)
 	}
 	return d, nil
+}
+
+// delimiterHint suggests another delimiter when the header was read as one
+// column whose name holds a common delimiter.
+func delimiterHint(t *Table) string {
+	if len(t.Columns) != 1 {
+		return ""
+	}
+	for _, d := range []string{",", ";", "\t", "|"} {
+		if strings.Contains(t.Columns[0].Name, d) {
+			return fmt.Sprintf("; the header was read as one column: is the delimiter %q?", d)
+		}
+	}
+	return ""
 }
 
 // TargetClasses maps the target column of t to class indices of known

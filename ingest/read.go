@@ -71,6 +71,11 @@ func (o ReadOptions) allocator() memory.Allocator {
 // MaxHeaderBytes caps the size of a CSV header line.
 const MaxHeaderBytes = 1 << 20
 
+// MaxCellBytes caps the size of one text cell. A longer cell is an error
+// naming it: it is far more often an open quote that swallowed the rest of
+// the file than a value worth a category of its own.
+const MaxCellBytes = 1 << 20
+
 // NullValues are the cell texts read as missing.
 var NullValues = []string{"", "NA"}
 
