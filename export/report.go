@@ -190,8 +190,8 @@ func WriteFitReport(w io.Writer, format Format, r *FitReport) error {
 	p.data(r.Data)
 	t := r.Training
 	p.line("training: %s rule, %s units, rate %s (%s)", t.Rule, t.Unit, num(t.Rate), rateNote(t))
-	p.line("          %d epochs (stop: %s), %d training errors in %d rows (accuracy %s), loss %s",
-		t.Epochs, t.Stop, t.Errors, r.Data.Rows, num(t.Accuracy), num(t.Loss))
+	p.line("          %s (stop: %s), %s in %s (accuracy %s), loss %s",
+		count(t.Epochs, "epoch"), t.Stop, count(t.Errors, "training error"), count(r.Data.Rows, "row"), num(t.Accuracy), num(t.Loss))
 	if r.Model != "" {
 		p.line("model: written to %s", r.Model)
 	}
@@ -273,7 +273,7 @@ func (p *printer) subheading(title string) {
 }
 
 func (p *printer) data(d DataSummary) {
-	p.line("data: %s, %d rows, %d feature columns encoded as %d input units", d.Source, d.Rows, d.Features, d.Inputs)
+	p.line("data: %s, %s, %s encoded as %s", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"), count(d.Inputs, "input unit"))
 	classes := ""
 	for i, l := range d.Labels {
 		if i > 0 {
@@ -371,6 +371,14 @@ func (p *printer) table(header []string, rows [][]string, footer []string) {
 		}
 	}
 	p.err = t.Render()
+}
+
+// count writes n with a noun in the singular or plural.
+func count(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return strconv.Itoa(n) + " " + noun + "s"
 }
 
 // num formats a metric with four decimals, or in %g for very small or
