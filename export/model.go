@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"slices"
 
 	"deltafit/fit"
@@ -101,7 +102,18 @@ func WriteModel(w io.Writer, m *Model) error {
 var ErrModel = errors.New("not a usable deltafit model")
 
 // ReadModel reads and checks a model file. name is used in messages.
+//
+// Memory is bounded before anything is decoded: a regular file over
+// MaxModelBytes is rejected from its size without being read, and other
+// readers are read at most MaxModelBytes+1 bytes. Nothing is allocated from
+// the dimensions the file declares; they are checked against the arrays it
+// holds and the caps (ingest.MaxWidth, ingest.MaxCategories).
 func ReadModel(name string, r io.Reader) (*Model, error) {
+	if s, ok := r.(interface{ Stat() (fs.FileInfo, error) }); ok {
+		if fi, err := s.Stat(); err == nil && fi.Mode().IsRegular() && fi.Size() > MaxModelBytes {
+			return nil, fmt.Errorf("%s: %w: the file is larger than the cap of %d MiB", name, ErrModel, MaxModelBytes>>20)
+		}
+	}
 	b, err := io.ReadAll(io.LimitReader(r, MaxModelBytes+1))
 	if err != nil {
 		return nil, fmt.Errorf("%s: cannot read the model: %w", name, err)

@@ -2,8 +2,10 @@ package export
 
 import (
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 
 	"deltafit/ingest"
@@ -24,14 +26,47 @@ func (m *Model) Predict(t *ingest.Table) (*Predictions, ingest.EncodeStats, erro
 		return nil, ingest.EncodeStats{}, err
 	}
 	width := m.Plan.Width()
-	values, stats := m.Plan.EncodeTo(nil, cols, nil)
 	p := &Predictions{Labels: m.Labels, Predicted: make([]int, t.Rows), Scores: make([][]float64, t.Rows)}
-	for i := 0; i < t.Rows; i++ {
-		x := values[i*width : (i+1)*width]
-		p.Scores[i] = m.Network.ScoresTo(nil, x)
-		p.Predicted[i] = m.Network.Classify(x)
+	// Rows are encoded a block at a time, so that a plan of many units (up
+	// to ingest.MaxWidth) needs one block of patterns, not one per row.
+	block := max(1, encodeBlockValues/max(1, width))
+	var stats ingest.EncodeStats
+	var values []float64
+	rows := make([]int, 0, min(block, t.Rows))
+	for lo := 0; lo < t.Rows; lo += block {
+		rows = rows[:0]
+		for r := lo; r < min(lo+block, t.Rows); r++ {
+			rows = append(rows, r)
+		}
+		var blockStats ingest.EncodeStats
+		values, blockStats = m.Plan.EncodeTo(values, cols, rows)
+		addCounts(&stats.Other, blockStats.Other)
+		addCounts(&stats.MissingNoUnit, blockStats.MissingNoUnit)
+		for n, r := range rows {
+			x := values[n*width : (n+1)*width]
+			p.Scores[r] = m.Network.ScoresTo(nil, x)
+			p.Predicted[r] = m.Network.Classify(x)
+			for _, s := range p.Scores[r] {
+				if math.IsNaN(s) || math.IsInf(s, 0) {
+					return nil, stats, &ingest.DataError{File: t.Name, Row: r + 1,
+						Err: errors.New("the model's scores for the row are not finite; its inputs are far outside the range of the training data")}
+				}
+			}
+		}
 	}
 	return p, stats, nil
+}
+
+// encodeBlockValues is the most encoded values Predict holds at once.
+const encodeBlockValues = 1 << 20
+
+func addCounts(dst *map[string]int, src map[string]int) {
+	for k, n := range src {
+		if *dst == nil {
+			*dst = map[string]int{}
+		}
+		(*dst)[k] += n
+	}
 }
 
 // WritePredictionsCSV writes a header and one line per row: the 1-based row

@@ -190,7 +190,7 @@ type study struct {
 func runStudy(d *ingest.Dataset, learner evaluate.Learner, folds int, seed uint64) (*study, error) {
 	fitted, err := learner.Train(d, nil)
 	if err != nil {
-		return nil, divergenceHint(err)
+		return nil, divergenceHint(inFile(err, d.Table.Name))
 	}
 	s := &study{fitted: fitted}
 	if folds == 0 {
@@ -202,7 +202,7 @@ func runStudy(d *ingest.Dataset, learner evaluate.Learner, folds int, seed uint6
 	}
 	main, err := evaluate.CrossValidate(d, split, evaluate.LearnerMethod(learner.Fit.Rule.Name(), learner, d))
 	if err != nil {
-		return nil, divergenceHint(err)
+		return nil, divergenceHint(inFile(err, d.Table.Name))
 	}
 	majority, err := evaluate.CrossValidate(d, split, evaluate.MajorityMethod(d))
 	if err != nil {
@@ -216,6 +216,16 @@ func runStudy(d *ingest.Dataset, learner evaluate.Learner, folds int, seed uint6
 	}
 	s.cv = export.NewCVReport(seed, main, majority, hebbian)
 	return s, nil
+}
+
+// inFile names the data file in a data error raised by code that works on
+// columns and does not know the file (the encoding plan's caps).
+func inFile(err error, name string) error {
+	var de *ingest.DataError
+	if errors.As(err, &de) && de.File == "" {
+		de.File = name
+	}
+	return err
 }
 
 func divergenceHint(err error) error {
