@@ -73,8 +73,13 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*Table, erro
 	}
 	t := &Table{Name: name, Rows: rows, Columns: make([]*Column, len(builders))}
 	for i, b := range builders {
+		reason := "declared"
 		kind, declared := opts.Kinds[b.name]
-		col, err := b.finish(kind, declared)
+		if !declared {
+			reason = "the model reads as"
+			kind, declared = opts.Expected[b.name]
+		}
+		col, err := b.finish(kind, declared, reason)
 		if err != nil {
 			err.File = name
 			return nil, err
@@ -239,8 +244,9 @@ func numberGetter(arr arrow.Array) (func(int) float64, bool) {
 	return nil, false
 }
 
-// finish turns the gathered cells into a Column of the declared or inferred kind.
-func (b *columnBuilder) finish(kind Kind, declared bool) (*Column, *DataError) {
+// finish turns the gathered cells into a Column of the declared or inferred
+// kind. // reason says why a declared kind applies, for messages ("declared").
+func (b *columnBuilder) finish(kind Kind, declared bool, reason string) (*Column, *DataError) {
 	col := &Column{Name: b.name}
 	if anyTrue(b.missing) {
 		col.Missing = b.missing
@@ -254,7 +260,7 @@ func (b *columnBuilder) finish(kind Kind, declared bool) (*Column, *DataError) {
 		col.Numbers = b.numbers
 		if declared && kind != col.Kind {
 			if kind != Categorical {
-				return nil, b.fail(0, fmt.Errorf("a %s Arrow column cannot be read as %s", col.Kind, kind))
+				return nil, b.fail(0, fmt.Errorf("a %s Arrow column cannot be read as %s (%s %s)", col.Kind, kind, reason, kind))
 			}
 			col.Text = make([]string, len(b.numbers))
 			for i := range b.numbers {
@@ -280,7 +286,7 @@ func (b *columnBuilder) finish(kind Kind, declared bool) (*Column, *DataError) {
 			}
 			t, ok := parseBool(v)
 			if !ok {
-				return nil, b.fail(i+1, fmt.Errorf("%q is not true or false in boolean column %s", v, b.name))
+				return nil, b.fail(i+1, fmt.Errorf("%q is not true or false, in a column %s boolean", v, reason))
 			}
 			if t {
 				col.Numbers[i] = 1
@@ -297,7 +303,7 @@ func (b *columnBuilder) finish(kind Kind, declared bool) (*Column, *DataError) {
 		x, err := parseNumber(v)
 		switch {
 		case errors.Is(err, errNotNumber) && declared:
-			return nil, b.fail(i+1, fmt.Errorf("%w in a column declared numeric; fix the cell, or leave it empty or write NA if it is missing", err))
+			return nil, b.fail(i+1, fmt.Errorf("%w in a column %s numeric; fix the cell, or leave it empty or write NA if it is missing", err, reason))
 		case errors.Is(err, errNotNumber):
 			return nil, b.fail(i+1, fmt.Errorf("%w, though %d of the column's %d values are; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical",
 				err, numbers, len(b.text)-countTrue(b.missing)))

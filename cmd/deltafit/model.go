@@ -29,17 +29,13 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *ingest.
 	defer f.Close()
 	model, err := export.ReadModel(m.model, f)
 	if err != nil {
-		return nil, nil, "", err
+		return nil, nil, "", fmt.Errorf("%w; fit a new model with deltafit fit -o", err)
 	}
 	readOpts, err := m.input.readOptions()
 	if err != nil {
 		return nil, nil, "", err
 	}
-	kinds := model.Plan.Kinds()
-	for col, k := range readOpts.Kinds {
-		kinds[col] = k
-	}
-	readOpts.Kinds = kinds
+	readOpts.Expected = model.Plan.Kinds()
 	table, sha, err := readTable(path, stdin, readOpts)
 	if err != nil {
 		return nil, nil, "", err
