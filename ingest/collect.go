@@ -245,7 +245,7 @@ func numberGetter(arr arrow.Array) (func(int) float64, bool) {
 }
 
 // finish turns the gathered cells into a Column of the declared or inferred
-// kind. // reason says why a declared kind applies, for messages ("declared").
+// kind; reason says why a declared kind applies, for messages ("declared").
 func (b *columnBuilder) finish(kind Kind, declared bool, reason string) (*Column, *DataError) {
 	col := &Column{Name: b.name}
 	if anyTrue(b.missing) {

@@ -46,8 +46,13 @@ type ReadOptions struct {
 	Format Format
 	// Delimiter separates CSV fields; 0 means ','.
 	Delimiter rune
-	// Kinds overrides inferred column kinds by column name.
+	// Kinds overrides inferred column kinds by column name; naming a
+	// column the input does not have is an error.
 	Kinds map[string]Kind
+	// Expected gives the kinds a model was trained with, by column name.
+	// It applies where Kinds says nothing, and absent columns are not an
+	// error here (the model's plan reports the ones it needs).
+	Expected map[string]Kind
 	// BatchRows is the number of rows per record batch; 0 means 4096.
 	BatchRows int
 	// Allocator for Arrow memory; nil means memory.DefaultAllocator.
