@@ -151,14 +151,14 @@ func describeJSONError(b []byte, err error) string {
 		return "the file is empty"
 	}
 	if errors.As(err, &se) && se.Offset >= int64(len(bytes.TrimRight(b, " \t\r\n"))) {
-		return "the JSON ends early; is the file truncated?"
+		return "the JSON ends early (is the file truncated?)"
 	}
 	if errors.As(err, &se) {
 		line := 1 + bytes.Count(b[:min(int(se.Offset), len(b))], []byte("\n"))
 		return fmt.Sprintf("invalid JSON at line %d: %v", line, se)
 	}
 	if errors.Is(err, io.ErrUnexpectedEOF) {
-		return "the JSON ends early; is the file truncated?"
+		return "the JSON ends early (is the file truncated?)"
 	}
 	return err.Error()
 }

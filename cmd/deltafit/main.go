@@ -66,7 +66,8 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 	}
 	fmt.Fprintf(stderr, "deltafit: %s\n", msg)
 	var ue usageError
-	if errors.As(err, &ue) {
+	// cobra reports an unknown subcommand with a plain error of this form.
+	if errors.As(err, &ue) || strings.HasPrefix(err.Error(), "unknown command ") {
 		return exitUsage
 	}
 	return exitError
