@@ -1,0 +1,76 @@
+package separate
+
+import (
+	"slices"
+
+	"deltafit/fit"
+)
+
+// Conflicts are groups of rows with identical patterns but different
+// classes. No classifier that sees only the patterns can get every row of
+// such a group right: at best it predicts the group's most common class,
+// so it errs on the rest of the group.
+type Conflicts struct {
+	Count int `json:"count"` // conflicting groups
+	Rows  int `json:"rows"`  // rows in conflicting groups
+	// MinErrors is the least number of errors any classifier of these
+	// patterns makes: Σ over groups of (group size − largest class count).
+	MinErrors int `json:"min_errors"`
+	// ErrorFloor is MinErrors / rows of the data: the irreducible error
+	// rate of any classifier on this encoding.
+	ErrorFloor float64 `json:"error_floor"`
+	// Groups are the first conflicting groups, in order of their first row.
+	Groups []ConflictGroup `json:"groups"`
+}
+
+// ConflictGroup is one set of rows sharing a pattern.
+type ConflictGroup struct {
+	Rows   []int    `json:"rows"`   // 1-based, ascending
+	Labels []string `json:"labels"` // the class of each row
+}
+
+// FindConflicts groups the rows of p by pattern and reports the groups
+// holding more than one class, listing at most the first most of them.
+// classes are the class indexes of the rows, into labels.
+func FindConflicts(p fit.Patterns, classes []int, labels []string, most int) Conflicts {
+	n := len(classes)
+	groups := map[string][]int{}
+	var order []string
+	for r := 0; r < n; r++ {
+		var k string
+		if p.Width > 0 {
+			k = patternKey(p.Row(r))
+		}
+		if _, seen := groups[k]; !seen {
+			order = append(order, k)
+		}
+		groups[k] = append(groups[k], r)
+	}
+	c := Conflicts{Groups: []ConflictGroup{}}
+	counts := make([]int, len(labels))
+	for _, k := range order {
+		rows := groups[k]
+		clear(counts)
+		for _, r := range rows {
+			counts[classes[r]]++
+		}
+		if slices.Max(counts) == len(rows) {
+			continue
+		}
+		c.Count++
+		c.Rows += len(rows)
+		c.MinErrors += len(rows) - slices.Max(counts)
+		if len(c.Groups) < most {
+			g := ConflictGroup{}
+			for _, r := range rows {
+				g.Rows = append(g.Rows, r+1)
+				g.Labels = append(g.Labels, labels[classes[r]])
+			}
+			c.Groups = append(c.Groups, g)
+		}
+	}
+	if n > 0 {
+		c.ErrorFloor = float64(c.MinErrors) / float64(n)
+	}
+	return c
+}

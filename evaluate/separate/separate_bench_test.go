@@ -1,0 +1,80 @@
+package separate
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"strconv"
+	"testing"
+
+	"deltafit/ingest"
+)
+
+// benchDataset makes rows × columns of uniform numbers with three classes,
+// each row's class the arg max of three random linear scores of it.
+func benchDataset(rows, columns int, seed uint64) *ingest.Dataset {
+	rng := rand.New(rand.NewPCG(seed, 2))
+	weights := make([][]float64, 3)
+	for k := range weights {
+		weights[k] = make([]float64, columns)
+		for j := range weights[k] {
+			weights[k][j] = rng.NormFloat64()
+		}
+	}
+	table := &ingest.Table{Name: "bench", Rows: rows}
+	for j := 0; j < columns; j++ {
+		table.Columns = append(table.Columns, &ingest.Column{Name: "x" + strconv.Itoa(j), Kind: ingest.Numeric, Numbers: make([]float64, rows)})
+	}
+	target := &ingest.Column{Name: "y", Kind: ingest.Categorical, Text: make([]string, rows)}
+	table.Columns = append(table.Columns, target)
+	for r := 0; r < rows; r++ {
+		var scores [3]float64
+		for j := 0; j < columns; j++ {
+			x := rng.Float64()
+			table.Columns[j].Numbers[r] = x
+			for k := range scores {
+				scores[k] += weights[k][j] * x
+			}
+		}
+		best := 0
+		for k := range scores {
+			if scores[k] > scores[best] {
+				best = k
+			}
+		}
+		target.Text[r] = "c" + strconv.Itoa(best)
+	}
+	d, err := ingest.NewDataset(table, "y", nil)
+	if err != nil {
+		panic(err)
+	}
+	return d
+}
+
+// BenchmarkCheck runs the full one-against-the-rest check of three classes
+// with 64 inputs: raw, 64 continuous columns; encoded, 8 columns each as
+// 8 thermometer units.
+func BenchmarkCheck(b *testing.B) {
+	for _, rows := range []int{2000, 20000} {
+		for _, tc := range []struct {
+			space   Space
+			columns int
+		}{{Raw, 64}, {Encoded, 8}} {
+			d := benchDataset(rows, tc.columns, 1)
+			opts := CheckOptions{Space: tc.space, Seed: 1, Plan: ingest.PlanOptions{Numeric: ingest.Encoding{Method: ingest.Thermometer, Bins: 9}}}
+			b.Run(fmt.Sprintf("rows=%d/inputs=64/classes=3/space=%s", rows, tc.space), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					r, err := Check(d, opts)
+					if err != nil {
+						b.Fatal(err)
+					}
+					for _, s := range r.Splits {
+						if s.Verdict == Undecided {
+							b.Fatalf("%s: %s", s.Positive, s.Reason)
+						}
+					}
+				}
+			})
+		}
+	}
+}

@@ -1,0 +1,337 @@
+package separate
+
+import (
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"slices"
+	"testing"
+
+	"deltafit/fit"
+	"deltafit/ingest"
+)
+
+// readDataset reads a reference table from the repository's testdata.
+func readDataset(t *testing.T, name, target string) *ingest.Dataset {
+	t.Helper()
+	path := filepath.Join("..", "..", "testdata", name)
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	table, err := ingest.ReadTable(name, f, ingest.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := ingest.NewDataset(table, target, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d
+}
+
+// split returns the rows of class positive and of every other class.
+func split(classes []int, positive int) (pos, neg []int) {
+	for r, c := range classes {
+		if c == positive {
+			pos = append(pos, r)
+		} else {
+			neg = append(neg, r)
+		}
+	}
+	return pos, neg
+}
+
+// rawPatterns reads the columns x1, x2 of a truth table as they are.
+func truthTable(t *testing.T, name string) (fit.Patterns, []int) {
+	d := readDataset(t, name, "y")
+	x1, x2 := d.Table.Column("x1").Numbers, d.Table.Column("x2").Numbers
+	var values []float64
+	for i := range x1 {
+		values = append(values, x1[i], x2[i])
+	}
+	return fit.Patterns{Width: 2, Values: values}, d.Classes
+}
+
+func TestTruthTables(t *testing.T) {
+	for _, tc := range []struct {
+		name    string
+		file    string
+		verdict Verdict
+	}{
+		{"xor not separable", "xor.csv", NotSeparable}, // Minsky & Papert 1969
+		{"and separable", "and.csv", Separable},        // Minsky & Papert 1969
+		{"or separable", "or.csv", Separable},          // Minsky & Papert 1969
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			p, classes := truthTable(t, tc.file)
+			pos, neg := split(classes, 1)
+			res, err := Separate(p, pos, neg, Options{Seed: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.Verdict != tc.verdict {
+				t.Fatalf("verdict %q (%s), want %q", res.Verdict, res.Reason, tc.verdict)
+			}
+			if tc.verdict == Separable {
+				// The witness classifies all four rows: recomputed here.
+				w := res.Witness
+				for r, c := range classes {
+					score := w.Bias + w.Weights[0]*p.Row(r)[0] + w.Weights[1]*p.Row(r)[1]
+					if (score > 0) != (c == 1) || score == 0 {
+						t.Errorf("row %d (class %d) scores %g", r+1, c, score)
+					}
+				}
+				return
+			}
+			// Hand algebra: ½(0,1) + ½(1,0) = ½(0,0) + ½(1,1) = (½,½); rows 2, 3
+			// are y=1 and rows 1, 4 are y=0 (xor.csv), and the hull
+			// intersection is that single point, so the weights are unique.
+			c := res.Certificate
+			if !slices.Equal(c.Rows, []int{2, 3, 1, 4}) || !slices.Equal(c.Positive, []bool{true, true, false, false}) {
+				t.Fatalf("certificate rows %v sides %v, want [2 3 1 4] [true true false false]", c.Rows, c.Positive)
+			}
+			for i, w := range c.Weights {
+				if math.Abs(w-0.5) > 1e-12 { // simplex rounding on 0/1 data
+					t.Errorf("weight of row %d = %v, want 1/2", c.Rows[i], w)
+				}
+			}
+		})
+	}
+}
+
+func TestIrisRawSpace(t *testing.T) {
+	d := readDataset(t, "iris.csv", "species")
+	r, err := Check(d, CheckOptions{Space: Raw, Pairs: true, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// UCI iris.names: "one class is linearly separable from the other 2; the
+	// latter are not linearly separable from each other".
+	want := map[[2]string]Verdict{
+		{"setosa", Rest}:            Separable,
+		{"versicolor", "virginica"}: NotSeparable,
+		{"setosa", "versicolor"}:    Separable,
+		{"setosa", "virginica"}:     Separable,
+	}
+	found := 0
+	for _, s := range r.Splits {
+		v, ok := want[[2]string{s.Positive, s.Negative}]
+		if !ok {
+			continue
+		}
+		found++
+		t.Run(s.Positive+" vs "+s.Negative, func(t *testing.T) {
+			if s.Verdict != v {
+				t.Fatalf("verdict %q (%s), want %q", s.Verdict, s.Reason, v)
+			}
+			if v == NotSeparable && len(s.Certificate.Rows) > len(r.Inputs)+2 {
+				t.Errorf("certificate has %d rows, more than D+2 = %d (Carathéodory)", len(s.Certificate.Rows), len(r.Inputs)+2)
+			}
+		})
+	}
+	if found != len(want) {
+		t.Fatalf("found %d of the %d expected splits in %d", found, len(want), len(r.Splits))
+	}
+}
+
+// planted returns n points uniform in [−1,1]^dim labelled by a random
+// hyperplane, keeping only points at least gap from it, and the scores
+// w·x+b of the hyperplane (w of unit length).
+func planted(n, dim int, gap float64, seed uint64) (fit.Patterns, []int, []float64) {
+	rng := rand.New(rand.NewPCG(seed, 1))
+	w := make([]float64, dim)
+	norm := 0.0
+	for j := range w {
+		w[j] = rng.NormFloat64()
+		norm += w[j] * w[j]
+	}
+	for j := range w {
+		w[j] /= math.Sqrt(norm)
+	}
+	bias := 0.1
+	p := fit.Patterns{Width: dim}
+	var classes []int
+	var scores []float64
+	x := make([]float64, dim)
+	for len(classes) < n {
+		score := bias
+		for j := range x {
+			x[j] = 2*rng.Float64() - 1
+			score += w[j] * x[j]
+		}
+		if math.Abs(score) < gap {
+			continue
+		}
+		p.Values = append(p.Values, x...)
+		scores = append(scores, score)
+		c := 0
+		if score > 0 {
+			c = 1
+		}
+		classes = append(classes, c)
+	}
+	return p, classes, scores
+}
+
+func TestPlantedHyperplane(t *testing.T) {
+	// Mathematical fact: points at distance ≥ 0.1 from a hyperplane are
+	// separated by it; flipping one label makes its hulls meet exactly when a
+	// certificate exists, and any certificate must use the flipped row, since
+	// the other rows are separated by the planted hyperplane.
+	for _, size := range []struct {
+		name string
+		rows int
+	}{
+		{"whole program", 300},
+		{"working set", 2 * wholeProgram},
+	} {
+		p, classes, scores := planted(size.rows, 5, 0.1, 7)
+		t.Run(size.name+"/separable", func(t *testing.T) {
+			pos, neg := split(classes, 1)
+			res, err := Separate(p, pos, neg, Options{Seed: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.Verdict != Separable {
+				t.Fatalf("verdict %q (%s), want separable", res.Verdict, res.Reason)
+			}
+			if res.Witness.Rows != len(classes) {
+				t.Errorf("witness checked %d rows, want %d", res.Witness.Rows, len(classes))
+			}
+		})
+		t.Run(size.name+"/one label flipped deep inside", func(t *testing.T) {
+			deepest := 0 // the positive row farthest from the planted hyperplane
+			for r, s := range scores {
+				if s > scores[deepest] {
+					deepest = r
+				}
+			}
+			flipped := slices.Clone(classes)
+			flipped[deepest] = 0
+			pos, neg := split(flipped, 1)
+			res, err := Separate(p, pos, neg, Options{Seed: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.Verdict != NotSeparable {
+				t.Fatalf("verdict %q (%s), want not separable", res.Verdict, res.Reason)
+			}
+			if !slices.Contains(res.Certificate.Rows, deepest+1) {
+				t.Errorf("certificate rows %v do not include the flipped row %d", res.Certificate.Rows, deepest+1)
+			}
+		})
+	}
+}
+
+func TestNovikoffBound(t *testing.T) {
+	// Novikoff 1962: on data separated with margin γ by a unit vector, in
+	// the space x̃ = (x, 1) where every ‖x̃‖ ≤ R, the error-correction
+	// procedure makes at most (R/γ)² corrections.
+	for _, tc := range []struct {
+		name string
+		seed uint64
+		gap  float64
+	}{
+		{"wide gap", 3, 0.3},
+		{"narrow gap", 4, 0.05},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			p, classes, _ := planted(200, 4, tc.gap, tc.seed)
+			pos, neg := split(classes, 1)
+			res, err := Separate(p, pos, neg, Options{Seed: 1})
+			if err != nil || res.Verdict != Separable {
+				t.Fatalf("verdict %v, err %v", res, err)
+			}
+			w := res.Witness
+			aug := append(slices.Clone(w.Weights), w.Bias)
+			norm := math.Sqrt(dot(aug, aug))
+			radius, gamma := 0.0, math.Inf(1)
+			for r, c := range classes {
+				x := append(slices.Clone(p.Row(r)), 1)
+				radius = max(radius, math.Sqrt(dot(x, x)))
+				y := float64(2*c - 1)
+				gamma = min(gamma, y*dot(aug, x)/norm)
+			}
+			mistakes := perceptronMistakes(p, classes)
+			if bound := (radius / gamma) * (radius / gamma); float64(mistakes) > bound {
+				t.Errorf("%d corrections, over the bound (R/γ)² = %.1f", mistakes, bound)
+			}
+		})
+	}
+}
+
+// perceptronMistakes trains a threshold unit by error correction, w += y·x̃
+// on each misclassified row, cycling until a pass makes no correction, and
+// returns the number of corrections.
+func perceptronMistakes(p fit.Patterns, classes []int) int {
+	w := make([]float64, p.Width+1)
+	mistakes := 0
+	for changed := true; changed; {
+		changed = false
+		for r, c := range classes {
+			x := append(slices.Clone(p.Row(r)), 1)
+			y := float64(2*c - 1)
+			if y*dot(w, x) <= 0 {
+				for j := range w {
+					w[j] += y * x[j]
+				}
+				mistakes++
+				changed = true
+			}
+		}
+	}
+	return mistakes
+}
+
+func TestConflicts(t *testing.T) {
+	// Hand count: rows 1-2 and 3-4 are two pairs with one pattern and two
+	// classes, so any classifier errs on at least one row of each pair:
+	// floor = 2/N with N = 6.
+	table := &ingest.Table{Name: "conflicts", Rows: 6, Columns: []*ingest.Column{
+		{Name: "colour", Kind: ingest.Categorical, Text: []string{"red", "red", "blue", "blue", "green", "grey"}},
+		{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "b", "a", "b", "a", "b"}},
+	}}
+	d, err := ingest.NewDataset(table, "y", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := Check(d, CheckOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := r.Conflicts
+	if c.Count != 2 || c.MinErrors != 2 || math.Abs(c.ErrorFloor-2.0/6) > 1e-15 { // exact ratio, one division
+		t.Errorf("conflicts %d, min errors %d, floor %v; want 2, 2, 1/3", c.Count, c.MinErrors, c.ErrorFloor)
+	}
+	if len(c.Groups) != 2 || !slices.Equal(c.Groups[0].Rows, []int{1, 2}) || !slices.Equal(c.Groups[1].Rows, []int{3, 4}) {
+		t.Errorf("groups %+v, want rows [1 2] and [3 4]", c.Groups)
+	}
+	// A shared pattern is its own two-row certificate.
+	s := r.Splits[0]
+	if s.Verdict != NotSeparable || !slices.Equal(s.Certificate.Rows, []int{2, 1}) {
+		t.Errorf("split %+v, want not separable with certificate rows [2 1]", s)
+	}
+}
+
+func TestProfile(t *testing.T) {
+	d := readDataset(t, "iris.csv", "species")
+	p := NewProfile(d)
+	// UCI iris.names: 150 instances, 50 in each of three classes.
+	if p.Rows != 150 || len(p.Classes) != 3 || p.Imbalance != 1 {
+		t.Errorf("rows %d, classes %+v, imbalance %v; want 150, 50 each, 1", p.Rows, p.Classes, p.Imbalance)
+	}
+	// UCI iris.names: no missing attribute values; no constant column.
+	if len(p.Missing) != 0 || len(p.Constant) != 0 {
+		t.Errorf("missing %+v constant %+v, want none", p.Missing, p.Constant)
+	}
+	// Fisher 1936 data (from memory): setosa petals are 1.0-1.9 long and
+	// 0.1-0.6 wide, the other species' at least 3.0 and 1.0, so each petal
+	// column alone splits setosa off; no sepal column does.
+	want := []Separator{{"petal_length", "setosa", "threshold"}, {"petal_width", "setosa", "threshold"}}
+	if !slices.Equal(p.Separators, want) {
+		t.Errorf("separators %+v, want %+v", p.Separators, want)
+	}
+}
