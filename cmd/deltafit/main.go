@@ -95,6 +95,7 @@ model file that predict and evaluate use on new rows.
 		newEvaluateCmd(),
 		newPredictCmd(),
 		newDemoCmd(),
+		newCheckCmd(),
 		newSelfcheckCmd(),
 		newVersionCmd(),
 	)

@@ -1,0 +1,171 @@
+package export
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+
+	"deltafit/evaluate/separate"
+)
+
+// CheckReport is what `deltafit check` reports: the data, and the
+// separability, conflicts and profile found in it.
+type CheckReport struct {
+	Data DataSummary `json:"data"`
+	*separate.Report
+}
+
+// witnessWeightsShown is how many witness weights the text and Markdown
+// reports list, the largest in magnitude first; JSON has them all.
+const witnessWeightsShown = 20
+
+// WriteCheckReport writes r in the given format.
+func WriteCheckReport(w io.Writer, format Format, r *CheckReport) error {
+	if format == JSON {
+		return WriteJSON(w, r)
+	}
+	p := &printer{w: w, markdown: format == Markdown}
+	p.heading("deltafit check")
+	p.data(r.Data)
+	p.line("space: %s, %d coordinates", spaceNote(r.Space), len(r.Inputs))
+	p.splits(r.Splits)
+	for _, s := range r.Splits {
+		switch {
+		case s.Certificate != nil:
+			p.certificate(s)
+		case s.Witness != nil:
+			p.witness(s, r.Inputs)
+		}
+	}
+	p.conflicts(r.Conflicts)
+	p.profile(r.Profile)
+	return p.err
+}
+
+func spaceNote(s separate.Space) string {
+	if s == separate.Raw {
+		return "raw numeric columns, standardized"
+	}
+	return "encoded input units"
+}
+
+func splitName(s separate.Split) string { return s.Positive + " against " + s.Negative }
+
+func (p *printer) splits(splits []separate.Split) {
+	p.subheading("linear separability (each answer verified on the data)")
+	rows := make([][]string, len(splits))
+	for i, s := range splits {
+		var evidence string
+		switch {
+		case s.Certificate != nil:
+			evidence = fmt.Sprintf("certificate of %d rows, residual %s", len(s.Certificate.Rows), num(s.Certificate.Residual))
+		case s.Witness != nil:
+			evidence = fmt.Sprintf("witness hyperplane, margin %s, %d rows checked", num(s.Witness.Margin), s.Witness.Rows)
+		default:
+			evidence = s.Reason
+		}
+		rows[i] = []string{s.Positive, s.Negative, strconv.Itoa(s.Rows), string(s.Verdict), evidence}
+	}
+	p.table([]string{"positive", "negative", "rows", "verdict", "evidence"}, rows, nil)
+}
+
+func (p *printer) certificate(s separate.Split) {
+	c := s.Certificate
+	p.subheading("certificate: " + splitName(s) + " (the weighted means coincide, so the convex hulls meet and no hyperplane separates them)")
+	rows := make([][]string, len(c.Rows))
+	for i, row := range c.Rows {
+		side := s.Negative
+		if c.Positive[i] {
+			side = s.Positive
+		}
+		rows[i] = []string{strconv.Itoa(row), side, strconv.FormatFloat(c.Weights[i], 'g', 6, 64)}
+	}
+	p.table([]string{"row", "side", "weight"}, rows, nil)
+	p.line("residual ‖Σλx − Σμx‖∞ = %s", num(c.Residual))
+}
+
+func (p *printer) witness(s separate.Split, inputs []string) {
+	w := s.Witness
+	p.subheading("witness: " + splitName(s) + " (w·x + b > 0 on every " + s.Positive + " row, < 0 on every other)")
+	p.line("bias %s, margin %s, %d rows checked", num(w.Bias), num(w.Margin), w.Rows)
+	order := make([]int, len(w.Weights))
+	for i := range order {
+		order[i] = i
+	}
+	slices.SortStableFunc(order, func(a, b int) int {
+		x, y := math.Abs(w.Weights[a]), math.Abs(w.Weights[b])
+		switch {
+		case x > y:
+			return -1
+		case x < y:
+			return 1
+		}
+		return 0
+	})
+	if len(order) > witnessWeightsShown {
+		p.line("the %d largest of %d weights (all are in --format json):", witnessWeightsShown, len(order))
+		order = order[:witnessWeightsShown]
+	}
+	rows := make([][]string, len(order))
+	for i, j := range order {
+		rows[i] = []string{inputs[j], num(w.Weights[j])}
+	}
+	p.table([]string{"input", "weight"}, rows, nil)
+}
+
+func (p *printer) conflicts(c separate.Conflicts) {
+	p.subheading("conflicting rows (identical inputs, different classes)")
+	if c.Count == 0 {
+		p.line("none: the error floor of any classifier on these inputs is 0")
+		return
+	}
+	p.line("%d groups, %d rows: any classifier makes at least %d errors, an error floor of %s",
+		c.Count, c.Rows, c.MinErrors, num(c.ErrorFloor))
+	rows := make([][]string, len(c.Groups))
+	for i, g := range c.Groups {
+		numbers := make([]string, len(g.Rows))
+		for k, r := range g.Rows {
+			numbers[k] = strconv.Itoa(r)
+		}
+		rows[i] = []string{strconv.Itoa(i + 1), strings.Join(numbers, " "), strings.Join(g.Labels, " ")}
+	}
+	p.table([]string{"group", "rows", "classes"}, rows, nil)
+	if len(c.Groups) < c.Count {
+		p.line("the first %d of %d groups", len(c.Groups), c.Count)
+	}
+}
+
+func (p *printer) profile(pr separate.Profile) {
+	p.subheading("profile")
+	counts := make([]string, len(pr.Classes))
+	for i, c := range pr.Classes {
+		counts[i] = fmt.Sprintf("%s %d", c.Label, c.Count)
+	}
+	p.line("rows: %d; classes: %s; imbalance ratio (largest/smallest) %s", pr.Rows, strings.Join(counts, ", "), num(pr.Imbalance))
+	p.line("constant columns: %s", listOrNone(pr.Constant))
+	p.line("columns with missing cells: %s", columnCounts(pr.Missing))
+	p.line("categorical cardinality: %s", columnCounts(pr.Cardinality))
+	suspects := make([]string, len(pr.Separators))
+	for i, s := range pr.Separators {
+		suspects[i] = fmt.Sprintf("%s splits %s from the rest (%s)", s.Column, s.Class, s.How)
+	}
+	p.line("single columns that split a class off on their own (leakage suspects): %s", listOrNone(suspects))
+}
+
+func columnCounts(cc []separate.ColumnCount) string {
+	items := make([]string, len(cc))
+	for i, c := range cc {
+		items[i] = fmt.Sprintf("%s %d", c.Column, c.Count)
+	}
+	return listOrNone(items)
+}
+
+func listOrNone(items []string) string {
+	if len(items) == 0 {
+		return "none"
+	}
+	return strings.Join(items, "; ")
+}
