@@ -44,7 +44,22 @@ func split(classes []int, positive int) (pos, neg []int) {
 	return pos, neg
 }
 
-// rawPatterns reads the columns x1, x2 of a truth table as they are.
+// separateClasses runs Separate on class 1 against class 0 and fails the
+// test unless the verdict is want.
+func separateClasses(t *testing.T, p fit.Patterns, classes []int, want Verdict) *Result {
+	t.Helper()
+	pos, neg := split(classes, 1)
+	res, err := Separate(p, pos, neg, Options{Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Verdict != want {
+		t.Fatalf("verdict %q (%s), want %q", res.Verdict, res.Reason, want)
+	}
+	return res
+}
+
+// truthTable reads the columns x1, x2 of a truth table as they are.
 func truthTable(t *testing.T, name string) (fit.Patterns, []int) {
 	d := readDataset(t, name, "y")
 	x1, x2 := d.Table.Column("x1").Numbers, d.Table.Column("x2").Numbers
@@ -67,14 +82,7 @@ func TestTruthTables(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			p, classes := truthTable(t, tc.file)
-			pos, neg := split(classes, 1)
-			res, err := Separate(p, pos, neg, Options{Seed: 1})
-			if err != nil {
-				t.Fatal(err)
-			}
-			if res.Verdict != tc.verdict {
-				t.Fatalf("verdict %q (%s), want %q", res.Verdict, res.Reason, tc.verdict)
-			}
+			res := separateClasses(t, p, classes, tc.verdict)
 			if tc.verdict == Separable {
 				// The witness classifies all four rows: recomputed here.
 				w := res.Witness
@@ -190,14 +198,7 @@ func TestPlantedHyperplane(t *testing.T) {
 	} {
 		p, classes, scores := planted(size.rows, 5, 0.1, 7)
 		t.Run(size.name+"/separable", func(t *testing.T) {
-			pos, neg := split(classes, 1)
-			res, err := Separate(p, pos, neg, Options{Seed: 1})
-			if err != nil {
-				t.Fatal(err)
-			}
-			if res.Verdict != Separable {
-				t.Fatalf("verdict %q (%s), want separable", res.Verdict, res.Reason)
-			}
+			res := separateClasses(t, p, classes, Separable)
 			if res.Witness.Rows != len(classes) {
 				t.Errorf("witness checked %d rows, want %d", res.Witness.Rows, len(classes))
 			}
@@ -211,14 +212,7 @@ func TestPlantedHyperplane(t *testing.T) {
 			}
 			flipped := slices.Clone(classes)
 			flipped[deepest] = 0
-			pos, neg := split(flipped, 1)
-			res, err := Separate(p, pos, neg, Options{Seed: 1})
-			if err != nil {
-				t.Fatal(err)
-			}
-			if res.Verdict != NotSeparable {
-				t.Fatalf("verdict %q (%s), want not separable", res.Verdict, res.Reason)
-			}
+			res := separateClasses(t, p, flipped, NotSeparable)
 			if !slices.Contains(res.Certificate.Rows, deepest+1) {
 				t.Errorf("certificate rows %v do not include the flipped row %d", res.Certificate.Rows, deepest+1)
 			}
@@ -240,12 +234,7 @@ func TestNovikoffBound(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			p, classes, _ := planted(200, 4, tc.gap, tc.seed)
-			pos, neg := split(classes, 1)
-			res, err := Separate(p, pos, neg, Options{Seed: 1})
-			if err != nil || res.Verdict != Separable {
-				t.Fatalf("verdict %v, err %v", res, err)
-			}
-			w := res.Witness
+			w := separateClasses(t, p, classes, Separable).Witness
 			aug := append(slices.Clone(w.Weights), w.Bias)
 			norm := math.Sqrt(dot(aug, aug))
 			radius, gamma := 0.0, math.Inf(1)
