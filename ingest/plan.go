@@ -271,6 +271,9 @@ func fitFeature(col *Column, rows []int, opts PlanOptions) (Feature, error) {
 		default:
 			return f, fmt.Errorf("ingest: unknown numeric encoding %q", f.Method)
 		}
+		if math.IsInf(f.Center, 0) || math.IsInf(f.Scale, 0) || math.IsNaN(f.Scale) {
+			return f, &DataError{Name: col.Name, Err: fmt.Errorf("the values span more than a 64-bit float holds, which the %s encoding cannot scale; rescale the column or use thermometer", f.Method)}
+		}
 	}
 	return f, nil
 }
@@ -315,7 +318,12 @@ func quantile(sorted []float64, q float64) float64 {
 		return sorted[len(sorted)-1]
 	}
 	frac := pos - float64(i)
-	return sorted[i] + frac*(sorted[i+1]-sorted[i])
+	if gap := sorted[i+1] - sorted[i]; !math.IsInf(gap, 0) {
+		return sorted[i] + frac*gap
+	}
+	// The gap overflows only for values near ±MaxFloat64; the weighted
+	// form cannot.
+	return sorted[i]*(1-frac) + sorted[i+1]*frac
 }
 
 func median(values []float64) float64 {

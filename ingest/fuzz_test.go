@@ -1,0 +1,158 @@
+package ingest_test
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"math"
+	"strings"
+	"testing"
+	"unicode/utf8"
+
+	"github.com/apache/arrow-go/v18/arrow/memory"
+
+	"deltafit/ingest"
+)
+
+// checkError fails unless err is a *DataError or an "ingest: " error.
+func checkError(t *testing.T, err error) {
+	t.Helper()
+	var de *ingest.DataError
+	if !errors.As(err, &de) && !strings.HasPrefix(err.Error(), "ingest: ") {
+		t.Fatalf("error %q (%T) is neither a *DataError nor an ingest error", err, err)
+	}
+}
+
+var fuzzFormats = []ingest.Format{ingest.FormatAuto, ingest.FormatCSV, ingest.FormatArrow, ingest.FormatParquet}
+
+// fuzzTable reads data as the format and batch size chosen by mode, and
+// checks the reader's invariants: no panic, a positioned or ingest error,
+// every Arrow byte released, and a table whose columns are all Rows long
+// with finite numbers and valid UTF-8 text.
+func fuzzTable(t *testing.T, data []byte, mode uint8) *ingest.Table {
+	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
+	defer mem.AssertSize(t, 0)
+	opts := ingest.ReadOptions{Format: fuzzFormats[mode%4], BatchRows: 1 + int(mode>>2)%5, Allocator: mem}
+	table, err := ingest.ReadTable("fuzz", bytes.NewReader(data), opts)
+	if err != nil {
+		checkError(t, err)
+		return nil
+	}
+	if table.Rows <= 0 {
+		t.Fatalf("a table of %d rows without an error", table.Rows)
+	}
+	for _, c := range table.Columns {
+		if c.Len() != table.Rows || (c.Missing != nil && len(c.Missing) != table.Rows) {
+			t.Fatalf("column %q has %d values for %d rows", c.Name, c.Len(), table.Rows)
+		}
+		if !utf8.ValidString(c.Name) {
+			t.Fatalf("column name %q is not UTF-8", c.Name)
+		}
+		for i := 0; i < table.Rows; i++ {
+			switch c.Kind {
+			case ingest.Categorical:
+				if !utf8.ValidString(c.Text[i]) || len(c.Text[i]) > ingest.MaxCellBytes {
+					t.Fatalf("column %q row %d: bad text %q", c.Name, i+1, c.Text[i])
+				}
+			case ingest.Numeric, ingest.Boolean:
+				if v := c.Numbers[i]; math.IsNaN(v) || math.IsInf(v, 0) {
+					t.Fatalf("column %q row %d holds %v", c.Name, i+1, v)
+				}
+			default:
+				t.Fatalf("column %q has kind %v", c.Name, c.Kind)
+			}
+		}
+	}
+	return table
+}
+
+// FuzzReadTable feeds arbitrary bytes to the readers and kind inference.
+// The seed corpus in testdata/fuzz/FuzzReadTable holds the malformed files
+// of testdata/bad and a good one.
+func FuzzReadTable(f *testing.F) {
+	f.Add([]byte("a,b,y\n1,x,p\n2,y,q\n"), uint8(0))
+	f.Fuzz(func(t *testing.T, data []byte, mode uint8) {
+		fuzzTable(t, data, mode)
+	})
+}
+
+var fuzzNumeric = []string{"thermometer", "onehot", "threshold", "zscore", "minmax"}
+
+// FuzzPlan fits an encoding plan on the first half of a table's rows and
+// encodes all of them. Invariants: no panic; errors are positioned or
+// ingest errors; a fitted plan passes its own file check, also after a
+// JSON round trip; every unit is in [0,1] except zscore's, which are
+// finite.
+func FuzzPlan(f *testing.F) {
+	f.Add([]byte("a,b,c,y\n1,x,true,p\n2,y,false,q\n,z,,p\n"), uint8(0), uint8(3))
+	f.Fuzz(func(t *testing.T, data []byte, method, arg uint8) {
+		table := fuzzTable(t, data, 1) // CSV: the plan, not the reader, is under test
+		if table == nil {
+			return
+		}
+		opts := ingest.PlanOptions{
+			Numeric:     ingest.Encoding{Method: fuzzNumeric[method%5], Bins: 2 + int(arg)%10},
+			Categorical: ingest.Encoding{Method: ingest.OneHot, Min: 1 + int(arg)%3},
+		}
+		if opts.Numeric.Method == ingest.Threshold && arg%2 == 1 {
+			cut := float64(arg) / 10
+			opts.Numeric.Cut = &cut
+		}
+		train := make([]int, 0, table.Rows)
+		for i := 0; i < (table.Rows+1)/2; i++ {
+			train = append(train, i)
+		}
+		plan, err := ingest.FitPlan(table.Columns, train, opts)
+		if err != nil {
+			checkError(t, err)
+			return
+		}
+		if err := plan.Validate(); err != nil {
+			t.Fatalf("a fitted plan fails its own check: %v", err)
+		}
+		b, err := json.Marshal(plan)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var back ingest.Plan
+		if err := json.Unmarshal(b, &back); err != nil {
+			t.Fatalf("plan JSON does not read back: %v", err)
+		}
+		if err := back.Validate(); err != nil {
+			t.Fatalf("plan read back fails its check: %v", err)
+		}
+		cols, err := back.Bind(table)
+		if err != nil {
+			t.Fatalf("a plan does not bind to the table it was fitted on: %v", err)
+		}
+		width := back.Width()
+		values, _ := back.EncodeTo(nil, cols, nil)
+		if len(values) != width*table.Rows {
+			t.Fatalf("%d values for %d rows of width %d", len(values), table.Rows, width)
+		}
+		for k, v := range values {
+			f := feature(&back, k%width)
+			if f.Method == ingest.ZScore {
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					t.Fatalf("zscore unit of %q is %v", f.Column, v)
+				}
+				continue
+			}
+			if !(v >= 0 && v <= 1) {
+				t.Fatalf("unit %d of %q (%s) is %v, outside [0,1]", k%width, f.Column, f.Method, v)
+			}
+		}
+	})
+}
+
+// feature returns the feature that input unit i belongs to.
+func feature(p *ingest.Plan, i int) *ingest.Feature {
+	for k := range p.Features {
+		w := p.Features[k].Width()
+		if i < w {
+			return &p.Features[k]
+		}
+		i -= w
+	}
+	return nil
+}
