@@ -122,8 +122,8 @@ func (p *printer) conflicts(c separate.Conflicts) {
 		p.line("none: the error floor of any classifier on these inputs is 0")
 		return
 	}
-	p.line("%d groups, %d rows: any classifier makes at least %d errors, an error floor of %s",
-		c.Count, c.Rows, c.MinErrors, num(c.ErrorFloor))
+	p.line("%s, %s: any classifier makes at least %s, an error floor of %s",
+		count(c.Count, "group"), count(c.Rows, "row"), count(c.MinErrors, "error"), num(c.ErrorFloor))
 	rows := make([][]string, len(c.Groups))
 	for i, g := range c.Groups {
 		numbers := make([]string, len(g.Rows))

@@ -81,19 +81,7 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 	if opts.require != "" && opts.require != "separable" {
 		return usagef(`--require %q: the only requirement is "separable"`, opts.require)
 	}
-	learner, err := opts.learn.learner()
-	if err != nil {
-		return err
-	}
-	readOpts, err := opts.input.readOptions()
-	if err != nil {
-		return err
-	}
-	table, sha, err := readTable(path, stdin, readOpts)
-	if err != nil {
-		return err
-	}
-	d, err := ingest.NewDataset(table, opts.learn.target, opts.learn.ignore)
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin)
 	if err != nil {
 		return err
 	}

@@ -136,22 +136,11 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 	if opts.folds == 1 || opts.folds < 0 {
 		return usagef("--folds %d: give 0 for no cross-validation, or at least 2", opts.folds)
 	}
-	learner, err := opts.learn.learner()
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin)
 	if err != nil {
 		return err
 	}
-	readOpts, err := opts.input.readOptions()
-	if err != nil {
-		return err
-	}
-	table, sha, err := readTable(path, stdin, readOpts)
-	if err != nil {
-		return err
-	}
-	d, err := ingest.NewDataset(table, opts.learn.target, opts.learn.ignore)
-	if err != nil {
-		return err
-	}
+	table := d.Table
 	study, err := runStudy(d, learner, opts.folds, opts.learn.seed)
 	if err != nil {
 		return err
@@ -179,6 +168,25 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 		}
 	}
 	return export.WriteFitReport(stdout, format, report)
+}
+
+// loadDataset checks the encoding and training flags, then reads the data
+// and picks its target, returning the sha256 of the bytes read.
+func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reader) (evaluate.Learner, *ingest.Dataset, string, error) {
+	learner, err := learn.learner()
+	if err != nil {
+		return learner, nil, "", err
+	}
+	readOpts, err := input.readOptions()
+	if err != nil {
+		return learner, nil, "", err
+	}
+	table, sha, err := readTable(path, stdin, readOpts)
+	if err != nil {
+		return learner, nil, "", err
+	}
+	d, err := ingest.NewDataset(table, learn.target, learn.ignore)
+	return learner, d, sha, err
 }
 
 // study is a fit on all rows and, when asked, its cross-validation.
