@@ -53,23 +53,10 @@ func (f *Fitted) Predict(cols []*ingest.Column, rows []int) ([]int, ingest.Encod
 	width := f.Plan.Width()
 	values, stats := f.Plan.EncodeTo(nil, cols, rows)
 	predicted := make([]int, len(rows))
-	scores := make([]float64, f.Result.Network.Classes)
 	for i := range rows {
-		x := values[i*width : (i+1)*width]
-		scores = f.Result.Network.ScoresTo(scores, x)
-		predicted[i] = argmax(scores)
+		predicted[i] = f.Result.Network.Classify(values[i*width : (i+1)*width])
 	}
 	return predicted, stats
-}
-
-func argmax(xs []float64) int {
-	best := 0
-	for i, x := range xs {
-		if x > xs[best] {
-			best = i
-		}
-	}
-	return best
 }
 
 func allRows(n int) []int {

@@ -1,7 +1,6 @@
 package evaluate
 
 import (
-	"os"
 	"reflect"
 	"runtime"
 	"slices"
@@ -9,20 +8,12 @@ import (
 
 	"deltafit/fit"
 	"deltafit/ingest"
+	"deltafit/internal/refdata"
 )
 
 func irisDataset(t *testing.T) *ingest.Dataset {
 	t.Helper()
-	f, err := os.Open("../testdata/iris.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	table, err := ingest.ReadTable("iris.csv", f, ingest.ReadOptions{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := ingest.NewDataset(table, "species", nil)
+	d, err := refdata.Iris()
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -13,22 +13,14 @@ import (
 	"deltafit/evaluate"
 	"deltafit/fit"
 	"deltafit/ingest"
+	"deltafit/internal/refdata"
 )
 
 var update = flag.Bool("update", false, "rewrite the golden files in testdata/")
 
 func irisDataset(t *testing.T) *ingest.Dataset {
 	t.Helper()
-	f, err := os.Open("../testdata/iris.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	table, err := ingest.ReadTable("iris.csv", f, ingest.ReadOptions{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := ingest.NewDataset(table, "species", nil)
+	d, err := refdata.Iris()
 	if err != nil {
 		t.Fatal(err)
 	}

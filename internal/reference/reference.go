@@ -2,15 +2,13 @@
 // `deltafit selfcheck`: results the literature states for the Iris data and
 // the two-input truth tables, recomputed by this installation.
 //
-// The data files here are byte-for-byte copies of the ones in testdata/
-// (a test checks it), embedded so that the binary carries them.
+// The data comes embedded from internal/refdata.
 package reference
 
 import (
-	"bytes"
-	_ "embed"
 	"fmt"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
@@ -18,17 +16,7 @@ import (
 	"deltafit/evaluate"
 	"deltafit/fit"
 	"deltafit/ingest"
-)
-
-var (
-	//go:embed iris.csv
-	irisCSV []byte
-	//go:embed xor.csv
-	xorCSV []byte
-	//go:embed and.csv
-	andCSV []byte
-	//go:embed or.csv
-	orCSV []byte
+	"deltafit/internal/refdata"
 )
 
 // Case is one reference case and its outcome.
@@ -54,16 +42,8 @@ func Run() ([]Case, error) {
 	return cases, nil
 }
 
-func dataset(name string, data []byte, target string) (*ingest.Dataset, error) {
-	t, err := ingest.ReadTable(name, bytes.NewReader(data), ingest.ReadOptions{})
-	if err != nil {
-		return nil, err
-	}
-	return ingest.NewDataset(t, target, nil)
-}
-
 func irisCases() ([]Case, error) {
-	d, err := dataset("iris.csv", irisCSV, "species")
+	d, err := refdata.Iris()
 	if err != nil {
 		return nil, err
 	}
@@ -146,8 +126,8 @@ func minMax(xs []float64) (lo, hi float64) {
 }
 
 // truthPatterns reads a two-input truth table as raw 0/1 inputs.
-func truthPatterns(name string, data []byte) (fit.Patterns, []int, error) {
-	d, err := dataset(name, data, "y")
+func truthPatterns(name string) (fit.Patterns, []int, error) {
+	d, err := refdata.Dataset(name, "y")
 	if err != nil {
 		return fit.Patterns{}, nil, err
 	}
@@ -161,11 +141,8 @@ func truthPatterns(name string, data []byte) (fit.Patterns, []int, error) {
 
 func truthTableCases() ([]Case, error) {
 	var cases []Case
-	for _, tt := range []struct {
-		name string
-		data []byte
-	}{{"and.csv", andCSV}, {"or.csv", orCSV}} {
-		p, classes, err := truthPatterns(tt.name, tt.data)
+	for _, name := range []string{"and.csv", "or.csv"} {
+		p, classes, err := truthPatterns(name)
 		if err != nil {
 			return nil, err
 		}
@@ -175,12 +152,12 @@ func truthTableCases() ([]Case, error) {
 		}
 		errs := res.History[len(res.History)-1].Errors
 		cases = append(cases, Case{
-			Name: tt.name[:len(tt.name)-4] + " truth table, delta rule training errors", Source: "Minsky & Papert 1969 (linearly separable)",
+			Name: strings.TrimSuffix(name, ".csv") + " truth table, delta rule training errors", Source: "Minsky & Papert 1969 (linearly separable)",
 			Expected: "0", Got: fmt.Sprint(errs), Pass: errs == 0,
 		})
 	}
 
-	p, classes, err := truthPatterns("xor.csv", xorCSV)
+	p, classes, err := truthPatterns("xor.csv")
 	if err != nil {
 		return nil, err
 	}
@@ -235,7 +212,7 @@ func leastSquares(p fit.Patterns, classes []int) ([]float64, float64) {
 // leastSquaresCase checks that batch LMS with linear units ends at the
 // least-squares solution (Widrow & Hoff 1960; Widrow & Stearns 1985).
 func leastSquaresCase() ([]Case, error) {
-	d, err := dataset("iris.csv", irisCSV, "species")
+	d, err := refdata.Iris()
 	if err != nil {
 		return nil, err
 	}
