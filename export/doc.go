@@ -6,7 +6,10 @@
 // Invariants that always hold:
 //   - Files are written atomically: to a temporary file in the same
 //     directory, synced, then renamed. A failed run leaves any previous file
-//     as it was and no partial file behind.
+//     as it was and no partial file behind. A writer killed outright leaves
+//     its temporary file (.NAME.tmp-PID-RANDOM); the next successful write
+//     of NAME removes those of processes that no longer run.
+//   - Predict never returns a NaN or infinite score: such a row is an error.
 //   - The same model, options and seed give the same bytes: JSON keys are in
 //     a fixed order and numbers are printed in their shortest exact form.
 //   - A model file is checked (size cap, schema version, dimensions, finite
