@@ -29,7 +29,8 @@ func ReadTable(name string, r io.Reader, opts ReadOptions) (*Table, error) {
 // as numbers are numeric; all true/false are boolean; the rest categorical.
 // A column that is mostly numbers with a stray word is an error naming the
 // cell, not a silent switch to categorical.
-func Collect(name string, rr array.RecordReader, opts ReadOptions) (*Table, error) {
+func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *Table, err error) {
+	defer recoverMalformed(name, &err)
 	schema := rr.Schema()
 	builders := make([]*columnBuilder, schema.NumFields())
 	seen := make(map[string]int, len(builders))

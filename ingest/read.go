@@ -81,6 +81,12 @@ const MaxHeaderBytes = 1 << 20
 // the file than a value worth a category of its own.
 const MaxCellBytes = 1 << 20
 
+// MaxArrowBodyBytes caps one record batch body of an Arrow IPC stream. The
+// body is allocated from its declared length before it is read, so without
+// a cap a few bytes could claim terabytes; write larger data in smaller
+// batches.
+const MaxArrowBodyBytes = 1 << 30
+
 // NullValues are the cell texts read as missing.
 var NullValues = []string{"", "NA"}
 
@@ -98,7 +104,8 @@ var (
 // Arrow IPC files and Parquet keep their index at the end, so unless r is an
 // io.ReaderAt and io.Seeker they are buffered in memory first; CSV and Arrow
 // IPC streams are read as they arrive.
-func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
+func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.RecordReader, err error) {
+	defer recoverMalformed(name, &err)
 	br := bufio.NewReaderSize(r, 64<<10)
 	head, err := br.Peek(8)
 	if len(head) == 0 {
@@ -126,8 +133,9 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordRe
 		// does not start with a schema message (say, a CSV read with
 		// Format "arrow") would make it allocate whatever its first four
 		// bytes claim. The message reader applies arrow's 64 MiB limit;
-		// record bodies stay unlimited.
-		mr := ipc.NewMessageReader(br, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(0))
+		// record bodies, allocated before they are read, are capped at
+		// MaxArrowBodyBytes.
+		mr := ipc.NewMessageReader(br, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(MaxArrowBodyBytes))
 		rdr, err := ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
 		if err != nil {
 			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
@@ -141,6 +149,16 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordRe
 		return newParquetReader(name, data, opts)
 	}
 	return nil, &DataError{File: name, Err: fmt.Errorf("%w: format %q", ErrUnsupported, format)}
+}
+
+// recoverMalformed turns a panic inside the Arrow and Parquet decoders,
+// which some malformed files cause (flatbuffers reads past a short
+// buffer), into an error naming the file. Deferred by the functions that
+// call into them with untrusted bytes.
+func recoverMalformed(name string, err *error) {
+	if p := recover(); p != nil {
+		*err = &DataError{File: name, Err: fmt.Errorf("%w: the file is malformed (%v); is it truncated or of another format?", ErrUnsupported, p)}
+	}
 }
 
 func sniff(head []byte) Format {
