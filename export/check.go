@@ -24,25 +24,20 @@ const witnessWeightsShown = 20
 
 // WriteCheckReport writes r in the given format.
 func WriteCheckReport(w io.Writer, format Format, r *CheckReport) error {
-	if format == JSON {
-		return WriteJSON(w, r)
-	}
-	p := &printer{w: w, markdown: format == Markdown}
-	p.heading("deltafit check")
-	p.data(r.Data)
-	p.line("space: %s, %d coordinates", spaceNote(r.Space), len(r.Inputs))
-	p.splits(r.Splits)
-	for _, s := range r.Splits {
-		switch {
-		case s.Certificate != nil:
-			p.certificate(s)
-		case s.Witness != nil:
-			p.witness(s, r.Inputs)
+	return writeReport(w, format, r, "deltafit check", r.Data, func(p *printer) {
+		p.line("space: %s, %d coordinates", spaceNote(r.Space), len(r.Inputs))
+		p.splits(r.Splits)
+		for _, s := range r.Splits {
+			switch {
+			case s.Certificate != nil:
+				p.certificate(s)
+			case s.Witness != nil:
+				p.witness(s, r.Inputs)
+			}
 		}
-	}
-	p.conflicts(r.Conflicts)
-	p.profile(r.Profile)
-	return p.err
+		p.conflicts(r.Conflicts)
+		p.profile(r.Profile)
+	})
 }
 
 func spaceNote(s separate.Space) string {

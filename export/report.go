@@ -182,12 +182,25 @@ func WriteJSON(w io.Writer, v any) error {
 
 // WriteFitReport writes r in the given format.
 func WriteFitReport(w io.Writer, format Format, r *FitReport) error {
+	return writeReport(w, format, r, "deltafit fit", r.Data, func(p *printer) {
+		p.training(r)
+	})
+}
+
+// writeReport writes r as JSON, or as text or Markdown: a heading, the
+// data summary, then what body prints.
+func writeReport(w io.Writer, format Format, r any, title string, data DataSummary, body func(*printer)) error {
 	if format == JSON {
 		return WriteJSON(w, r)
 	}
 	p := &printer{w: w, markdown: format == Markdown}
-	p.heading("deltafit fit")
-	p.data(r.Data)
+	p.heading(title)
+	p.data(data)
+	body(p)
+	return p.err
+}
+
+func (p *printer) training(r *FitReport) {
 	t := r.Training
 	p.line("training: %s rule, %s units, rate %s (%s)", t.Rule, t.Unit, num(t.Rate), rateNote(t))
 	p.line("          %s (stop: %s), %s in %s (accuracy %s), loss %s",
@@ -198,23 +211,21 @@ func WriteFitReport(w io.Writer, format Format, r *FitReport) error {
 	if r.CV != nil {
 		p.cv(r.CV)
 	}
-	return p.err
 }
 
 // WriteEvaluationReport writes r in the given format.
 func WriteEvaluationReport(w io.Writer, format Format, r *EvaluationReport) error {
-	if format == JSON {
-		return WriteJSON(w, r)
-	}
-	p := &printer{w: w, markdown: format == Markdown}
-	p.heading("deltafit evaluate")
-	p.data(r.Data)
+	return writeReport(w, format, r, "deltafit evaluate", r.Data, func(p *printer) {
+		p.evaluation(r)
+	})
+}
+
+func (p *printer) evaluation(r *EvaluationReport) {
 	p.line("model: %s", r.Model)
 	p.line("accuracy %s, balanced accuracy %s, macro F1 %s, Cohen's kappa %s",
 		num(r.Accuracy), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa))
 	p.confusion("confusion table (rows: true class, columns: predicted)", r.Confusion)
 	p.classes(r.Classes)
-	return p.err
 }
 
 func rateNote(t TrainingSummary) string {
