@@ -3,6 +3,7 @@ package separate
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/stat"
 
@@ -169,8 +170,9 @@ func standardized(d *ingest.Dataset) (fit.Patterns, []string, error) {
 			continue
 		}
 		if n := col.MissingCount(); n > 0 {
-			return fit.Patterns{}, nil, &ingest.DataError{File: d.Table.Name, Name: col.Name,
-				Err: fmt.Errorf("%d missing cells; the raw space needs every cell (fill them in, --ignore the column, or use the encoded space)", n)}
+			first := slices.Index(col.Missing, true)
+			return fit.Patterns{}, nil, &ingest.DataError{File: d.Table.Name, Row: first + 1, Name: col.Name,
+				Err: fmt.Errorf("the cell is missing (%d in the column); the raw space needs every cell: fill them in, --ignore the column, or use the encoded space", n)}
 		}
 		mean, sd := stat.MeanStdDev(col.Numbers, nil)
 		if !(sd > 0) || math.IsInf(sd, 0) {
