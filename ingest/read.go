@@ -127,7 +127,14 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 			if err != nil {
 				return nil, &DataError{File: name, Err: err}
 			}
+			if err := checkArrowFile(data); err != nil {
+				return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
+			}
 			return newArrowFileReader(name, data, opts)
+		}
+		stream, err := checkArrowStream(br)
+		if err != nil {
+			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
 		}
 		// ipc.NewReader ignores the metadata size limit, so a stream that
 		// does not start with a schema message (say, a CSV read with
@@ -135,7 +142,7 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 		// bytes claim. The message reader applies arrow's 64 MiB limit;
 		// record bodies, allocated before they are read, are capped at
 		// MaxArrowBodyBytes.
-		mr := ipc.NewMessageReader(br, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(MaxArrowBodyBytes))
+		mr := ipc.NewMessageReader(stream, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(MaxArrowBodyBytes))
 		rdr, err := ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
 		if err != nil {
 			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
