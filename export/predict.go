@@ -40,8 +40,7 @@ func (m *Model) Predict(t *ingest.Table) (*Predictions, ingest.EncodeStats, erro
 		}
 		var blockStats ingest.EncodeStats
 		values, blockStats = m.Plan.EncodeTo(values, cols, rows)
-		addCounts(&stats.Other, blockStats.Other)
-		addCounts(&stats.MissingNoUnit, blockStats.MissingNoUnit)
+		stats.Merge(blockStats)
 		for n, r := range rows {
 			x := values[n*width : (n+1)*width]
 			p.Scores[r] = m.Network.ScoresTo(nil, x)
@@ -59,15 +58,6 @@ func (m *Model) Predict(t *ingest.Table) (*Predictions, ingest.EncodeStats, erro
 
 // encodeBlockValues is the most encoded values Predict holds at once.
 const encodeBlockValues = 1 << 20
-
-func addCounts(dst *map[string]int, src map[string]int) {
-	for k, n := range src {
-		if *dst == nil {
-			*dst = map[string]int{}
-		}
-		(*dst)[k] += n
-	}
-}
 
 // WritePredictionsCSV writes a header and one line per row: the 1-based row
 // number, the predicted label and one score column per class.

@@ -68,5 +68,5 @@ func ExampleFitPlan() {
 	// b [1 0 1 0]
 	// b [1 0 1 0]
 	// b [1 0 0 1]
-	// other: map[colour:1]
+	// other: map[colour:{1 5}]
 }

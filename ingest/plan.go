@@ -399,17 +399,42 @@ type EncodeStats struct {
 	// Other counts, per column, values outside the plan's category list
 	// (unseen, or too rare in training to get a unit), which go to the
 	// "other" unit.
-	Other map[string]int
+	Other map[string]Surprise
 	// MissingNoUnit counts, per column, missing cells in a column whose
 	// training rows had none (encoded with every unit of the column off).
-	MissingNoUnit map[string]int
+	MissingNoUnit map[string]Surprise
 }
 
-func (s *EncodeStats) add(m *map[string]int, col string) {
+// Surprise counts the cells of one column that met one condition.
+type Surprise struct {
+	Count    int
+	FirstRow int // 1-based data row of the first such cell
+}
+
+func (s *EncodeStats) add(m *map[string]Surprise, col string, row int) {
+	merge(m, col, Surprise{Count: 1, FirstRow: row + 1})
+}
+
+func merge(m *map[string]Surprise, col string, s Surprise) {
 	if *m == nil {
-		*m = map[string]int{}
+		*m = map[string]Surprise{}
 	}
-	(*m)[col]++
+	old, seen := (*m)[col]
+	if seen && old.FirstRow < s.FirstRow {
+		s.FirstRow = old.FirstRow
+	}
+	s.Count += old.Count
+	(*m)[col] = s
+}
+
+// Merge adds the counts of other, as when rows are encoded in blocks.
+func (s *EncodeStats) Merge(other EncodeStats) {
+	for col, n := range other.Other {
+		merge(&s.Other, col, n)
+	}
+	for col, n := range other.MissingNoUnit {
+		merge(&s.MissingNoUnit, col, n)
+	}
 }
 
 // EncodeTo writes the patterns of the given rows (0-based; nil means all)
@@ -445,7 +470,7 @@ func (f *Feature) encode(units []float64, col *Column, row int, stats *EncodeSta
 		if f.Missing {
 			units[len(units)-1] = 1
 		} else {
-			stats.add(&stats.MissingNoUnit, f.Column)
+			stats.add(&stats.MissingNoUnit, f.Column, row)
 		}
 		return
 	}
@@ -458,7 +483,7 @@ func (f *Feature) encode(units []float64, col *Column, row int, stats *EncodeSta
 			i, found := slices.BinarySearch(f.Categories, v)
 			if !found {
 				i = len(f.Categories)
-				stats.add(&stats.Other, f.Column)
+				stats.add(&stats.Other, f.Column, row)
 			}
 			units[i] = 1
 			return

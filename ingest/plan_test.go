@@ -275,7 +275,7 @@ func TestEncodeCategorical(t *testing.T) {
 				t.Fatalf("units %q (width %d), want %q", names, p.Width(), wantNames)
 			}
 			patterns, stats := p.EncodeTo(nil, cols, nil)
-			if stats.Other["species"] != tt.other {
+			if stats.Other["species"].Count != tt.other {
 				t.Errorf("Other = %v, want %d for species", stats.Other, tt.other)
 			}
 			w := p.Width()
@@ -339,7 +339,11 @@ func TestEncodeMissing(t *testing.T) {
 				}
 			}
 			patterns, stats = noGaps.EncodeTo(nil, cols, nil)
-			if want := map[string]int{"sepal_width": 15, "species": 1}; !reflect.DeepEqual(stats.MissingNoUnit, want) {
+			want := map[string]ingest.Surprise{
+				"sepal_width": {Count: 15, FirstRow: slices.Index(cols[0].Missing, true) + 1},
+				"species":     {Count: 1, FirstRow: slices.Index(cols[1].Missing, true) + 1},
+			}
+			if !reflect.DeepEqual(stats.MissingNoUnit, want) {
 				t.Errorf("MissingNoUnit = %v, want %v", stats.MissingNoUnit, want)
 			}
 			w0 = noGaps.Features[0].Width()

@@ -34,8 +34,7 @@ per-class precision, recall, F1 and support.
 			return runEvaluate(cmd.Context(), opts, args[0], cmd.InOrStdin(), cmd.OutOrStdout(), cmd.ErrOrStderr())
 		},
 	}
-	opts.input.add(cmd.Flags())
-	cmd.Flags().StringVar(&opts.model, "model", "", "model file written by fit -o (required)")
+	opts.modelInput.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	return cmd
 }
@@ -57,7 +56,9 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err != nil {
 		return err
 	}
-	warnEncoding(stderr, path, stats)
+	if err := opts.checkEncoding(stderr, path, stats); err != nil {
+		return err
+	}
 	confusion := evaluate.NewConfusion(model.Labels)
 	if err := confusion.AddAll(truth, predictions.Predicted); err != nil {
 		return err

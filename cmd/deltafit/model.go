@@ -6,14 +6,23 @@ import (
 	"os"
 	"sort"
 
+	"github.com/spf13/pflag"
+
 	"deltafit/export"
 	"deltafit/ingest"
 )
 
 // modelInput are the flags of the commands that apply a saved model.
 type modelInput struct {
-	input inputFlags
-	model string
+	input  inputFlags
+	model  string
+	strict bool
+}
+
+func (m *modelInput) add(fs *pflag.FlagSet) {
+	m.input.add(fs)
+	fs.StringVar(&m.model, "model", "", "model file written by fit -o (required)")
+	fs.BoolVar(&m.strict, "strict", false, "refuse cells the model was not trained on (unseen categories, missing cells) instead of warning")
 }
 
 // load reads the model and then the data, read with the kinds the model's
@@ -43,21 +52,35 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *ingest.
 	return model, table, sha, nil
 }
 
-// warnEncoding tells on stderr what the model's plan met that it was not
-// fitted on, one line per column.
-func warnEncoding(stderr io.Writer, name string, stats ingest.EncodeStats) {
-	report := func(counts map[string]int, what string) {
-		cols := make([]string, 0, len(counts))
-		for c := range counts {
+// checkEncoding reports what the model's plan met that it was not fitted
+// on: one warning line per column on stderr, or with --strict an error
+// naming the first such cell.
+func (m *modelInput) checkEncoding(stderr io.Writer, name string, stats ingest.EncodeStats) error {
+	for _, kind := range []struct {
+		cells map[string]ingest.Surprise
+		warn  string
+		fail  string
+	}{
+		{stats.Other, "values the model has no unit for (unseen or rare in training), sent to the other unit",
+			"the model has no unit for this value (unseen or rare in training)"},
+		{stats.MissingNoUnit, "missing cells, which the training data never had, encoded with every unit off",
+			"the cell is missing, which the training data never was here"},
+	} {
+		cols := make([]string, 0, len(kind.cells))
+		for c := range kind.cells {
 			cols = append(cols, c)
 		}
 		sort.Strings(cols)
 		for _, c := range cols {
-			fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: %d %s\n", displayName(name), c, counts[c], what)
+			s := kind.cells[c]
+			if m.strict {
+				return &ingest.DataError{File: name, Row: s.FirstRow, Name: c,
+					Err: fmt.Errorf("%s; cells like it in the column: %d; --strict refuses them (without it they are a warning)", kind.fail, s.Count)}
+			}
+			fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: %s: %d (first at row %d)\n", displayName(name), c, kind.warn, s.Count, s.FirstRow)
 		}
 	}
-	report(stats.Other, "values the model has no unit for (unseen or rare in training) went to the other unit")
-	report(stats.MissingNoUnit, "missing cells, which the training data never had, were encoded with every unit off")
+	return nil
 }
 
 func displayName(path string) string {

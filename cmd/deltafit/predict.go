@@ -33,8 +33,7 @@ Output goes to stdout, or atomically to the file given with -o.
 			return runPredict(cmd.Context(), opts, args[0], cmd.InOrStdin(), cmd.OutOrStdout(), cmd.ErrOrStderr())
 		},
 	}
-	opts.input.add(cmd.Flags())
-	cmd.Flags().StringVar(&opts.model, "model", "", "model file written by fit -o (required)")
+	opts.modelInput.add(cmd.Flags())
 	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the predictions here instead of stdout")
 	return cmd
 }
@@ -48,7 +47,9 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 	if err != nil {
 		return err
 	}
-	warnEncoding(stderr, path, stats)
+	if err := opts.checkEncoding(stderr, path, stats); err != nil {
+		return err
+	}
 	write := func(w io.Writer) error { return export.WritePredictionsCSV(w, predictions) }
 	if opts.output != "" {
 		return export.WriteFile(opts.output, write)
