@@ -120,16 +120,22 @@ func simplex(cost []float64, a *mat.Dense, b []float64, basis []int) (opt float6
 	return opt, x, nil
 }
 
+// negligibleWeight is the largest vertex weight read as zero: the simplex
+// leaves round-off such as 3e-17 on rows outside the certificate. Dropping
+// them moves the weighted means by far less than the verification
+// tolerance, and the certificate is verified after the drop.
+const negligibleWeight = 1e-12
+
 // certificate reads the convex weights off the optimal vertex, dropping
-// zero weights and rescaling each side to sum to 1; each side's rows are
-// in ascending order.
+// negligible weights and rescaling each side to sum to 1; each side's rows
+// are in ascending order.
 func (h *hull) certificate() *Certificate {
 	c := &Certificate{}
 	add := func(rows []int, weights []float64, positive bool) {
 		total := 0.0
 		var kept []int
 		for i, w := range weights {
-			if w > 0 {
+			if w > negligibleWeight {
 				total += w
 				kept = append(kept, i)
 			}
