@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"slices"
@@ -119,6 +120,8 @@ func missingTarget(t *Table, col *Column, row int) error {
 }
 
 // sortLabels sorts numerically when every label is a number, else as text.
+// Labels of equal value ("1", "1.0", "01") are ordered as text, so the order
+// never depends on the order labels arrive in.
 func sortLabels(labels []string) {
 	numbers := make(map[string]float64, len(labels))
 	for _, l := range labels {
@@ -130,13 +133,10 @@ func sortLabels(labels []string) {
 		numbers[l] = x
 	}
 	slices.SortFunc(labels, func(a, b string) int {
-		switch {
-		case numbers[a] < numbers[b]:
-			return -1
-		case numbers[a] > numbers[b]:
-			return 1
+		if c := cmp.Compare(numbers[a], numbers[b]); c != 0 {
+			return c
 		}
-		return 0
+		return strings.Compare(a, b)
 	})
 }
 

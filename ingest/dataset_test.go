@@ -105,6 +105,33 @@ func TestDatasetLabelOrder(t *testing.T) {
 	}
 }
 
+// TestDatasetLabelTies: labels that are different text for one number keep
+// one order, whatever order the rows give them in. Class indexes, and with
+// them every score column and model file, depend on it.
+func TestDatasetLabelTies(t *testing.T) {
+	// Five spellings of one, then two; a categorical target keeps them apart.
+	want := []string{"+1", "01", "1", "1.0", "1e0", "2"}
+	rows := []string{"1", "1.0", "01", "2", "1e0", "+1"}
+	for rotation := range rows {
+		t.Run(strconv.Itoa(rotation), func(t *testing.T) {
+			text := "x,y\n"
+			for i := range rows {
+				text += strconv.Itoa(i) + "," + rows[(i+rotation)%len(rows)] + "\n"
+			}
+			tab := readCSVText(t, "ties.csv", text, ingest.ReadOptions{Kinds: map[string]ingest.Kind{"y": ingest.Categorical}})
+			for range 20 { // the labels are gathered in a map; repeat to meet its orders
+				d, err := ingest.NewDataset(tab, "y", nil)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !slices.Equal(d.Labels, want) {
+					t.Fatalf("labels %q, want %q", d.Labels, want)
+				}
+			}
+		})
+	}
+}
+
 func compareNumbers(a, b string) int {
 	x, errA := strconv.ParseFloat(a, 64)
 	y, errB := strconv.ParseFloat(b, 64)
