@@ -1,0 +1,90 @@
+package fit
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// plainDot and plainAxpy are the textbook loops the kernels replace.
+func plainDot(x, y []float64) float64 {
+	var sum float64
+	for i, v := range x {
+		sum += v * y[i]
+	}
+	return sum
+}
+
+func plainAxpy(alpha float64, x, y []float64) {
+	for i, v := range x {
+		y[i] += alpha * v
+	}
+}
+
+func randomVector(rng *rand.Rand, n int) []float64 {
+	v := make([]float64, n)
+	for i := range v {
+		v[i] = rng.NormFloat64()
+	}
+	return v
+}
+
+// The kernels agree with the plain loops: exactly for axpy (the same
+// operations per element), and for dot within the round-off of summing n
+// terms in another order (|error| ≤ n·ε·Σ|x_i y_i|, a standard bound;
+// Higham 2002, ch. 3).
+func TestKernelsMatchPlainLoops(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	for _, n := range []int{0, 1, 3, 4, 5, 17, 64, 513} {
+		x, y := randomVector(rng, n), randomVector(rng, n)
+		var abs float64
+		for i := range x {
+			abs += math.Abs(x[i] * y[i])
+		}
+		if got, want := dot(x, y), plainDot(x, y); math.Abs(got-want) > float64(n)*0x1p-52*abs {
+			t.Errorf("n=%d: dot %v, plain %v", n, got, want)
+		}
+		got, want := append([]float64(nil), y...), append([]float64(nil), y...)
+		axpy(0.37, x, got)
+		plainAxpy(0.37, x, want)
+		for i := range got {
+			if got[i] != want[i] {
+				t.Fatalf("n=%d: axpy differs at %d: %v, plain %v", n, i, got[i], want[i])
+			}
+		}
+	}
+}
+
+func BenchmarkKernels(b *testing.B) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for _, n := range []int{8, 64, 512} {
+		x, y := randomVector(rng, n), randomVector(rng, n)
+		var sink float64
+		b.Run(fmt.Sprintf("dot/n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for range b.N {
+				sink += dot(x, y)
+			}
+		})
+		b.Run(fmt.Sprintf("plainDot/n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for range b.N {
+				sink += plainDot(x, y)
+			}
+		})
+		b.Run(fmt.Sprintf("axpy/n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for range b.N {
+				axpy(1e-9, x, y)
+			}
+		})
+		b.Run(fmt.Sprintf("plainAxpy/n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for range b.N {
+				plainAxpy(1e-9, x, y)
+			}
+		})
+		_ = sink
+	}
+}
