@@ -36,11 +36,7 @@ func (l Learner) Train(d *ingest.Dataset, rows []int) (*Fitted, error) {
 		return nil, err
 	}
 	values, _ := plan.EncodeTo(nil, d.Features, rows)
-	classes := make([]int, len(rows))
-	for i, r := range rows {
-		classes[i] = d.Classes[r]
-	}
-	res, err := fit.Train(fit.Patterns{Width: plan.Width(), Values: values}, classes, len(d.Labels), l.Fit)
+	res, err := fit.Train(fit.Patterns{Width: plan.Width(), Values: values}, classesOf(d, rows), len(d.Labels), l.Fit)
 	if err != nil {
 		return nil, err
 	}
@@ -57,6 +53,15 @@ func (f *Fitted) Predict(cols []*ingest.Column, rows []int) ([]int, ingest.Encod
 		predicted[i] = f.Result.Network.Classify(values[i*width : (i+1)*width])
 	}
 	return predicted, stats
+}
+
+// classesOf returns the classes of the given rows of d.
+func classesOf(d *ingest.Dataset, rows []int) []int {
+	classes := make([]int, len(rows))
+	for i, r := range rows {
+		classes[i] = d.Classes[r]
+	}
+	return classes
 }
 
 func allRows(n int) []int {
@@ -89,11 +94,7 @@ func LearnerMethod(name string, l Learner, d *ingest.Dataset) Method {
 // every test row.
 func MajorityMethod(d *ingest.Dataset) Method {
 	return Method{Name: "majority", Predict: func(train, test []int) ([]int, error) {
-		classes := make([]int, len(train))
-		for i, r := range train {
-			classes[i] = d.Classes[r]
-		}
-		majority := Majority(classes, len(d.Labels))
+		majority := Majority(classesOf(d, train), len(d.Labels))
 		predicted := make([]int, len(test))
 		for i := range predicted {
 			predicted[i] = majority
@@ -129,13 +130,16 @@ func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error
 			for k := range next {
 				test := folds[k]
 				predicted, err := m.Predict(TrainRows(folds, k), test)
-				if err != nil {
-					outcomes[k].err = fmt.Errorf("fold %d of %d: %w", k+1, len(folds), err)
-					continue
-				}
 				fold := NewConfusion(d.Labels)
-				for i, r := range test {
-					fold.Add(d.Classes[r], predicted[i])
+				if err == nil {
+					// AddAll, not Add: a Method that returns too few
+					// predictions or a bad class is an error here, not a
+					// panic that no caller could recover from.
+					err = fold.AddAll(classesOf(d, test), predicted)
+				}
+				if err != nil {
+					outcomes[k].err = fmt.Errorf("evaluate: %s, fold %d of %d: %w", m.Name, k+1, len(folds), err)
+					continue
 				}
 				outcomes[k].confusion = fold
 			}

@@ -1,9 +1,11 @@
 package evaluate
 
 import (
+	"errors"
 	"reflect"
 	"runtime"
 	"slices"
+	"strings"
 	"testing"
 
 	"deltafit/fit"
@@ -140,6 +142,35 @@ func TestCrossValidateSameResultOnAnyCoreCount(t *testing.T) {
 		if !reflect.DeepEqual(first, got) {
 			t.Errorf("GOMAXPROCS=%d gave a different result", procs)
 		}
+	}
+}
+
+// A Method that breaks its contract is an error naming the method and the
+// fold, not a panic inside a worker goroutine.
+func TestCrossValidateBadMethod(t *testing.T) {
+	d := irisDataset(t)
+	folds, err := Folds(d, 5, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name    string
+		predict func(train, test []int) ([]int, error)
+		want    error
+	}{
+		{"too few predictions", func(_, test []int) ([]int, error) { return make([]int, len(test)-1), nil }, ErrLengthMismatch},
+		{"class out of range", func(_, test []int) ([]int, error) {
+			p := make([]int, len(test))
+			p[0] = len(d.Labels)
+			return p, nil
+		}, ErrClassOutOfRange},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := CrossValidate(d, folds, Method{Name: "broken", Predict: tc.predict})
+			if !errors.Is(err, tc.want) || !strings.HasPrefix(err.Error(), "evaluate: broken, fold 1 of 5: ") {
+				t.Errorf("error %v, want %v naming the method and fold 1 of 5", err, tc.want)
+			}
+		})
 	}
 }
 
