@@ -5,8 +5,6 @@ import (
 	"fmt"
 	"io"
 
-	"github.com/olekukonko/tablewriter"
-	"github.com/olekukonko/tablewriter/tw"
 	"github.com/spf13/cobra"
 
 	"deltafit/export"
@@ -33,52 +31,25 @@ pass for each. It exits 1 if any case fails.
 			return runSelfcheck(cmd.Context(), opts, cmd.OutOrStdout())
 		},
 	}
-	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text or json")
+	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	return cmd
 }
 
 func runSelfcheck(_ context.Context, opts selfcheckOptions, stdout io.Writer) error {
 	format, err := export.ParseFormat(opts.format)
-	if err != nil || format == export.Markdown {
-		return usagef("--format %q: give text or json", opts.format)
+	if err != nil {
+		return usageError{err}
 	}
 	cases, err := reference.Run()
 	if err != nil {
 		return fmt.Errorf("selfcheck could not compute a case: %w", err)
 	}
-	failed := 0
-	for _, c := range cases {
-		if !c.Pass {
-			failed++
-		}
-	}
-	if format == export.JSON {
-		err = export.WriteJSON(stdout, map[string]any{"cases": cases, "failed": failed})
-	} else {
-		err = writeCases(stdout, cases)
-	}
-	if err != nil {
+	report := export.NewSelfcheckReport(cases)
+	if err := export.WriteSelfcheckReport(stdout, format, report); err != nil {
 		return err
 	}
-	if failed > 0 {
-		return fmt.Errorf("%d of %d reference cases failed", failed, len(cases))
+	if report.Failed > 0 {
+		return fmt.Errorf("%d of %d reference cases failed", report.Failed, len(cases))
 	}
 	return nil
-}
-
-func writeCases(w io.Writer, cases []reference.Case) error {
-	t := tablewriter.NewTable(w,
-		tablewriter.WithHeaderAutoFormat(tw.Off),
-		tablewriter.WithRendition(tw.Rendition{Symbols: tw.NewSymbols(tw.StyleASCII)}))
-	t.Header("case", "source", "expected", "got", "pass")
-	for _, c := range cases {
-		pass := "yes"
-		if !c.Pass {
-			pass = "NO"
-		}
-		if err := t.Append(c.Name, c.Source, c.Expected, c.Got, pass); err != nil {
-			return err
-		}
-	}
-	return t.Render()
 }
