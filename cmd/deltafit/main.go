@@ -34,8 +34,8 @@ func usagef(format string, args ...any) error {
 	return usageError{fmt.Errorf(format, args...)}
 }
 
-// exitError carries an exit code other than 1 for a result that is not an
-// error, such as a failed gate.
+// exitCodeError carries an exit code other than 1 for a result that is not
+// an error, such as a failed gate. An empty msg prints nothing.
 type exitCodeError struct {
 	code int
 	msg  string
