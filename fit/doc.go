@@ -32,6 +32,11 @@
 //   - Train never returns a Network holding a NaN or an infinity: a run
 //     whose weights or loss stop being finite (or whose loss passes 1e12)
 //     fails with an error wrapping ErrDiverged.
-//   - An epoch allocates nothing: buffers are made once per call to Train.
+//   - An epoch allocates nothing but the goroutines that measure it in
+//     parallel when it has more than one chunk of 4096 patterns: buffers
+//     are made once per call to Train.
+//   - Training uses one core (online updates are sequential by nature);
+//     measuring an epoch's loss and errors uses all of them, with results
+//     that do not depend on how many.
 //   - Anything caused by the data or the options is an error, never a panic.
 package fit

@@ -5,6 +5,9 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
+	"sync"
+	"sync/atomic"
 )
 
 // ErrDiverged is returned, wrapped with the epoch, the rate and the
@@ -82,7 +85,7 @@ func Train(p Patterns, classes []int, numClasses int, opts Options) (*Result, er
 }
 
 // trainer holds one run's state and every buffer it needs, so that an
-// epoch allocates nothing.
+// epoch allocates nothing but the goroutines of a parallel measurement.
 type trainer struct {
 	patterns Patterns
 	n        int // patterns
@@ -102,6 +105,9 @@ type trainer struct {
 	sumWeights []float64 // batch accumulators, units × Width
 	sumBiases  []float64
 	outputs    []float64
+
+	chunkStats   []EpochStats // per measurement chunk
+	chunkOutputs [][]float64  // per measuring goroutine
 }
 
 func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*trainer, error) {
@@ -156,6 +162,8 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 		weights:  make([]float64, units*width),
 		biases:   make([]float64, units),
 		outputs:  make([]float64, units),
+
+		chunkStats: make([]EpochStats, (n+measureChunk-1)/measureChunk),
 	}
 	t.net = &Network{
 		Rule:    opts.Rule.Name(),
@@ -169,6 +177,9 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 	}
 	for j := range units {
 		t.net.Weights[j] = t.weights[j*width : (j+1)*width : (j+1)*width]
+	}
+	for range min(runtime.GOMAXPROCS(0), len(t.chunkStats)) {
+		t.chunkOutputs = append(t.chunkOutputs, make([]float64, units))
 	}
 	if opts.Batch {
 		t.sumWeights = make([]float64, units*width)
@@ -302,18 +313,58 @@ func (t *trainer) batchEpoch() {
 }
 
 // measure returns the loss and the error count with the current weights.
+//
+// The rows are measured in chunks of measureChunk, whose sums are added in
+// chunk order, so the result is the same however many goroutines measure:
+// one per core (up to the number of chunks) when there is more than one
+// chunk and more than one core.
 func (t *trainer) measure(epoch int) EpochStats {
+	chunks := (t.n + measureChunk - 1) / measureChunk
+	workers := min(runtime.GOMAXPROCS(0), chunks, len(t.chunkOutputs))
+	if workers <= 1 {
+		for k := range chunks {
+			t.chunkStats[k] = t.measureChunk(k, t.outputs)
+		}
+	} else {
+		var next atomic.Int64
+		var wg sync.WaitGroup
+		for w := range workers {
+			wg.Add(1)
+			go func(outputs []float64) {
+				defer wg.Done()
+				for k := int(next.Add(1) - 1); k < chunks; k = int(next.Add(1) - 1) {
+					t.chunkStats[k] = t.measureChunk(k, outputs)
+				}
+			}(t.chunkOutputs[w])
+		}
+		wg.Wait()
+	}
 	stats := EpochStats{Epoch: epoch}
-	for i, c := range t.classes {
-		if t.net.classify(t.patterns.Row(i), t.outputs) != c {
+	for _, c := range t.chunkStats[:chunks] {
+		stats.Errors += c.Errors
+		stats.Loss += c.Loss
+	}
+	stats.Loss /= float64(t.n * len(t.outputs))
+	return stats
+}
+
+// measureChunk is the rows per measurement chunk.
+const measureChunk = 4096
+
+// measureChunk returns the error count and the summed squared misses of
+// chunk k, using outputs as its scratch buffer.
+func (t *trainer) measureChunk(k int, outputs []float64) EpochStats {
+	var stats EpochStats
+	for i := k * measureChunk; i < min((k+1)*measureChunk, t.n); i++ {
+		c := t.classes[i]
+		if t.net.classify(t.patterns.Row(i), outputs) != c {
 			stats.Errors++
 		}
-		for j, output := range t.outputs {
+		for j, output := range outputs {
 			miss := t.target(j, c) - output
 			stats.Loss += miss * miss
 		}
 	}
-	stats.Loss /= float64(t.n * len(t.outputs))
 	return stats
 }
 

@@ -3,6 +3,9 @@ package fit
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
+	"reflect"
+	"runtime"
 	"slices"
 	"strings"
 	"testing"
@@ -317,5 +320,56 @@ func TestEpochAllocatesNothing(t *testing.T) {
 		if allocs != 0 { // the package's invariant: buffers are made once per Train
 			t.Errorf("batch %v: %v allocations per epoch, want 0", batch, allocs)
 		}
+	}
+}
+
+// Epochs of more than one measurement chunk are measured in parallel; the
+// history and weights must not depend on the number of cores (the
+// package's determinism invariant). The patterns are random: the property
+// holds for any data.
+func TestTrainSameOnAnyCoreCount(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	n, width := 3*measureChunk+17, 6
+	p := Patterns{Width: width, Values: make([]float64, n*width)}
+	classes := make([]int, n)
+	for i := range classes {
+		for j := range width {
+			p.Values[i*width+j] = rng.Float64()
+		}
+		classes[i] = rng.IntN(3)
+	}
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	var first *Result
+	for _, procs := range []int{1, 2, 8} {
+		runtime.GOMAXPROCS(procs)
+		res, err := Train(p, classes, 3, Options{Seed: 5, Epochs: 3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if first == nil {
+			first = res
+			continue
+		}
+		if !reflect.DeepEqual(first, res) {
+			t.Errorf("GOMAXPROCS=%d gave a different result", procs)
+		}
+	}
+	// The chunked loss equals the loss summed row by row, up to the
+	// round-off of adding in another order (common practice).
+	var loss float64
+	outputs := make([]float64, 3)
+	for i, c := range classes {
+		first.Network.classify(p.Row(i), outputs)
+		for j, y := range outputs {
+			target := first.Network.Off
+			if j == c {
+				target = first.Network.On
+			}
+			loss += (target - y) * (target - y)
+		}
+	}
+	loss /= float64(3 * n)
+	if got := first.History[len(first.History)-1].Loss; math.Abs(got-loss) > 1e-12 {
+		t.Errorf("chunked loss %v, row-by-row %v", got, loss)
 	}
 }
