@@ -1,8 +1,3 @@
-// Package reference runs the built-in reference cases behind
-// `deltafit selfcheck`: results the literature states for the Iris data and
-// the two-input truth tables, recomputed by this installation.
-//
-// The data comes embedded from internal/refdata.
 package reference
 
 import (
