@@ -1,6 +1,3 @@
-// Command deltafit fits single-layer error-driven linear classifiers (the
-// delta rule) to tabular data, cross-validates them against simple
-// baselines and hands the model and its predictions on.
 package main
 
 import (
