@@ -26,8 +26,12 @@ func (e *FoldError) Error() string {
 // Message returns the error text with the class index replaced by a name,
 // for callers that know the label of class e.Label.
 func (e *FoldError) Message(label string) string {
-	return fmt.Sprintf("evaluate: class %s has %d rows; %d folds need at least %d in every class (use fewer folds)",
-		label, e.Count, e.Folds, e.Folds)
+	rows := "rows"
+	if e.Count == 1 {
+		rows = "row"
+	}
+	return fmt.Sprintf("evaluate: class %s has %d %s; %d folds need at least %d in every class (use fewer folds)",
+		label, e.Count, rows, e.Folds, e.Folds)
 }
 
 // StratifiedFolds splits the rows 0..len(classes)-1 into k test folds,

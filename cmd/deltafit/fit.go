@@ -206,7 +206,7 @@ func runStudy(d *ingest.Dataset, learner evaluate.Learner, folds int, seed uint6
 	}
 	split, err := evaluate.Folds(d, folds, seed)
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", d.Table.Name, err)
+		return nil, fmt.Errorf("%s: %w", displayName(d.Table.Name), err)
 	}
 	main, err := evaluate.CrossValidate(d, split, evaluate.LearnerMethod(learner.Fit.Rule.Name(), learner, d))
 	if err != nil {
@@ -248,12 +248,8 @@ func dataSummary(d *ingest.Dataset, plan *ingest.Plan, sha string) export.DataSu
 	for _, c := range d.Classes {
 		counts[c]++
 	}
-	source := d.Table.Name
-	if source == "-" {
-		source = "stdin"
-	}
 	return export.DataSummary{
-		Source: source, SHA256: sha, Rows: d.Table.Rows,
+		Source: displayName(d.Table.Name), SHA256: sha, Rows: d.Table.Rows,
 		Features: len(d.Features), Inputs: plan.Width(),
 		Target: d.Target, Labels: d.Labels, ClassCounts: counts,
 	}
