@@ -19,7 +19,7 @@ type DataError struct {
 
 func (e *DataError) Error() string {
 	var b strings.Builder
-	b.WriteString(displayName(e.File))
+	b.WriteString(DisplayName(e.File))
 	var pos []string
 	switch {
 	case e.Row > 0 && e.Line > 0:
@@ -48,7 +48,8 @@ func (e *DataError) Error() string {
 
 func (e *DataError) Unwrap() error { return e.Err }
 
-func displayName(file string) string {
+// DisplayName is how messages name an input: "stdin" for "-" or "".
+func DisplayName(file string) string {
 	if file == "" || file == "-" {
 		return "stdin"
 	}

@@ -59,6 +59,7 @@ separable, or undecided).`,
 	}
 	opts.input.add(cmd.Flags())
 	opts.learn.add(cmd)
+	cmd.Flags().Lookup("seed").Usage = "seed of the order in which the solver takes rows into its working set"
 	for _, name := range []string{"rule", "unit", "epochs", "rate"} {
 		_ = cmd.Flags().MarkHidden(name) // training flags: check trains nothing
 	}

@@ -58,17 +58,17 @@ func runDemo(_ context.Context, opts demoOptions, stdout io.Writer) error {
 	}
 	const folds, seed = 10, 1
 	learner := evaluate.Learner{Fit: fit.Options{Rule: fit.Delta{}, Seed: seed}}
-	s, err := runStudy(d, learner, folds, seed)
+	s, err := evaluate.RunStudy(d, learner, folds, seed)
 	if err != nil {
 		return err
 	}
 	sum := sha256.Sum256(demo.CSV)
 	sha := hex.EncodeToString(sum[:])
-	model := &export.Model{Network: s.fitted.Result.Network, Training: export.NewTraining(s.fitted.Result), Data: export.DataInfo{Rows: table.Rows}}
+	model := &export.Model{Network: s.Fitted.Result.Network, Training: export.NewTraining(s.Fitted.Result), Data: export.DataInfo{Rows: table.Rows}}
 	report := &export.FitReport{
-		Data:     dataSummary(d, s.fitted.Plan, sha),
+		Data:     dataSummary(d, s.Fitted.Plan, sha),
 		Training: export.NewTrainingSummary(model),
-		CV:       s.cv,
+		CV:       cvReport(s, seed),
 	}
 	if format == export.Text {
 		fmt.Fprintf(stdout, "demo data: %s, an invented kiln log (see deltafit demo --help); target %s, ignoring %s\n\n", demo.Name, demo.Target, demo.Ignore)

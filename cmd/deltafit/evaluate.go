@@ -65,7 +65,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	}
 	counts := confusion.RowTotals()
 	data := export.DataSummary{
-		Source: displayName(path), SHA256: sha, Rows: table.Rows,
+		Source: ingest.DisplayName(path), SHA256: sha, Rows: table.Rows,
 		Features: len(model.Plan.Features), Inputs: model.Plan.Width(),
 		Target: model.Target, Labels: model.Labels, ClassCounts: counts,
 	}

@@ -141,25 +141,25 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 		return err
 	}
 	table := d.Table
-	study, err := runStudy(d, learner, opts.folds, opts.learn.seed)
+	study, err := evaluate.RunStudy(d, learner, opts.folds, opts.learn.seed)
 	if err != nil {
-		return err
+		return divergenceHint(err)
 	}
 	model := &export.Model{
 		Schema:   export.SchemaVersion,
 		Tool:     "deltafit " + export.Version,
 		Target:   d.Target,
 		Labels:   d.Labels,
-		Plan:     study.fitted.Plan,
-		Network:  study.fitted.Result.Network,
+		Plan:     study.Fitted.Plan,
+		Network:  study.Fitted.Result.Network,
 		Options:  opts.learn.modelOptions(opts.input.kinds),
-		Training: export.NewTraining(study.fitted.Result),
+		Training: export.NewTraining(study.Fitted.Result),
 		Data:     export.DataInfo{Rows: table.Rows, SHA256: sha},
 	}
 	report := &export.FitReport{
-		Data:     dataSummary(d, study.fitted.Plan, sha),
+		Data:     dataSummary(d, study.Fitted.Plan, sha),
 		Training: export.NewTrainingSummary(model),
-		CV:       study.cv,
+		CV:       cvReport(study, opts.learn.seed),
 		Model:    opts.output,
 	}
 	if opts.output != "" {
@@ -189,51 +189,12 @@ func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reade
 	return learner, d, sha, err
 }
 
-// study is a fit on all rows and, when asked, its cross-validation.
-type study struct {
-	fitted *evaluate.Fitted
-	cv     *export.CVReport
-}
-
-func runStudy(d *ingest.Dataset, learner evaluate.Learner, folds int, seed uint64) (*study, error) {
-	fitted, err := learner.Train(d, nil)
-	if err != nil {
-		return nil, divergenceHint(inFile(err, d.Table.Name))
+// cvReport is the report of a study's cross-validation, nil without one.
+func cvReport(s *evaluate.Study, seed uint64) *export.CVReport {
+	if s.Main == nil {
+		return nil
 	}
-	s := &study{fitted: fitted}
-	if folds == 0 {
-		return s, nil
-	}
-	split, err := evaluate.Folds(d, folds, seed)
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", displayName(d.Table.Name), err)
-	}
-	main, err := evaluate.CrossValidate(d, split, evaluate.LearnerMethod(learner.Fit.Rule.Name(), learner, d))
-	if err != nil {
-		return nil, divergenceHint(inFile(err, d.Table.Name))
-	}
-	majority, err := evaluate.CrossValidate(d, split, evaluate.MajorityMethod(d))
-	if err != nil {
-		return nil, err
-	}
-	hebb := learner
-	hebb.Fit.Rule, hebb.Fit.Epochs, hebb.Fit.Rate = fit.Hebbian{}, 1, 0
-	hebbian, err := evaluate.CrossValidate(d, split, evaluate.LearnerMethod("hebbian", hebb, d))
-	if err != nil {
-		return nil, err
-	}
-	s.cv = export.NewCVReport(seed, main, majority, hebbian)
-	return s, nil
-}
-
-// inFile names the data file in a data error raised by code that works on
-// columns and does not know the file (the encoding plan's caps).
-func inFile(err error, name string) error {
-	var de *ingest.DataError
-	if errors.As(err, &de) && de.File == "" {
-		de.File = name
-	}
-	return err
+	return export.NewCVReport(seed, s.Main, s.Majority, s.Hebbian)
 }
 
 func divergenceHint(err error) error {
@@ -249,7 +210,7 @@ func dataSummary(d *ingest.Dataset, plan *ingest.Plan, sha string) export.DataSu
 		counts[c]++
 	}
 	return export.DataSummary{
-		Source: displayName(d.Table.Name), SHA256: sha, Rows: d.Table.Rows,
+		Source: ingest.DisplayName(d.Table.Name), SHA256: sha, Rows: d.Table.Rows,
 		Features: len(d.Features), Inputs: plan.Width(),
 		Target: d.Target, Labels: d.Labels, ClassCounts: counts,
 	}

@@ -77,15 +77,8 @@ func (m *modelInput) checkEncoding(stderr io.Writer, name string, stats ingest.E
 				return &ingest.DataError{File: name, Row: s.FirstRow, Name: c,
 					Err: fmt.Errorf("%s; cells like it in the column: %d; --strict refuses them (without it they are a warning)", kind.fail, s.Count)}
 			}
-			fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: %s: %d (first at row %d)\n", displayName(name), c, kind.warn, s.Count, s.FirstRow)
+			fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: %s: %d (first at row %d)\n", ingest.DisplayName(name), c, kind.warn, s.Count, s.FirstRow)
 		}
 	}
 	return nil
-}
-
-func displayName(path string) string {
-	if path == "-" {
-		return "stdin"
-	}
-	return path
 }

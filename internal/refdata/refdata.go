@@ -2,6 +2,7 @@ package refdata
 
 import (
 	"bytes"
+	"fmt"
 	_ "embed"
 
 	"deltafit/ingest"
@@ -23,7 +24,11 @@ var Files = map[string][]byte{"iris.csv": IrisCSV, "xor.csv": XorCSV, "and.csv":
 
 // Dataset reads an embedded file with default options and picks target.
 func Dataset(name, target string) (*ingest.Dataset, error) {
-	t, err := ingest.ReadTable(name, bytes.NewReader(Files[name]), ingest.ReadOptions{})
+	data, ok := Files[name]
+	if !ok {
+		return nil, fmt.Errorf("refdata: no embedded file %q", name)
+	}
+	t, err := ingest.ReadTable(name, bytes.NewReader(data), ingest.ReadOptions{})
 	if err != nil {
 		return nil, err
 	}

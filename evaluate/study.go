@@ -1,0 +1,75 @@
+package evaluate
+
+import (
+	"errors"
+	"fmt"
+
+	"deltafit/fit"
+	"deltafit/ingest"
+)
+
+// Study is a fit on all rows and, when folds are asked for, the
+// cross-validation of the same learner beside its baselines on the same
+// folds.
+type Study struct {
+	Fitted   *Fitted
+	Main     *CVResult // the learner itself; nil without folds
+	Majority *CVResult // the majority class of each training fold
+	Hebbian  *CVResult // HebbianBaseline of the learner
+}
+
+// RunStudy fits l on every row of d and, when folds > 0, cross-validates
+// it with stratified folds from seed beside the majority-class and Hebbian
+// baselines. Data errors name the dataset's file.
+func RunStudy(d *ingest.Dataset, l Learner, folds int, seed uint64) (*Study, error) {
+	fitted, err := l.Train(d, nil)
+	if err != nil {
+		return nil, inFile(err, d.Table.Name)
+	}
+	s := &Study{Fitted: fitted}
+	if folds == 0 {
+		return s, nil
+	}
+	split, err := Folds(d, folds, seed)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", ingest.DisplayName(d.Table.Name), err)
+	}
+	for _, run := range []struct {
+		dst *(*CVResult)
+		m   Method
+	}{
+		{&s.Main, LearnerMethod(ruleName(l.Fit), l, d)},
+		{&s.Majority, MajorityMethod(d)},
+		{&s.Hebbian, LearnerMethod("hebbian", HebbianBaseline(l), d)},
+	} {
+		if *run.dst, err = CrossValidate(d, split, run.m); err != nil {
+			return nil, inFile(err, d.Table.Name)
+		}
+	}
+	return s, nil
+}
+
+// HebbianBaseline is the contrast baseline of a learner: the same encoding
+// with the Hebbian rule, one epoch (further epochs only scale its weights)
+// and the automatic rate.
+func HebbianBaseline(l Learner) Learner {
+	l.Fit.Rule, l.Fit.Epochs, l.Fit.Rate = fit.Hebbian{}, 1, 0
+	return l
+}
+
+func ruleName(o fit.Options) string {
+	if o.Rule == nil {
+		return fit.Delta{}.Name()
+	}
+	return o.Rule.Name()
+}
+
+// inFile names the data file in a data error raised by code that works on
+// columns and does not know the file (the encoding plan's caps).
+func inFile(err error, name string) error {
+	var de *ingest.DataError
+	if errors.As(err, &de) && de.File == "" {
+		de.File = name
+	}
+	return err
+}
