@@ -2,8 +2,8 @@ package refdata
 
 import (
 	"bytes"
-	"fmt"
 	_ "embed"
+	"fmt"
 
 	"deltafit/ingest"
 )
