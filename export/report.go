@@ -82,13 +82,33 @@ type Spread struct {
 	Folds []float64 `json:"folds"`
 }
 
-// MethodSummary is the cross-validated outcome of a baseline.
-type MethodSummary struct {
-	Accuracy         float64 `json:"accuracy"`
-	SD               float64 `json:"sd"`
+// TableMetrics are the metrics read off a confusion table besides its
+// accuracy, which the reports give in their own ways.
+type TableMetrics struct {
 	BalancedAccuracy float64 `json:"balanced_accuracy"`
 	MacroF1          float64 `json:"macro_f1"`
 	Kappa            float64 `json:"kappa"`
+}
+
+func tableMetrics(c *evaluate.Confusion) TableMetrics {
+	return TableMetrics{BalancedAccuracy: c.BalancedAccuracy(), MacroF1: c.MacroF1(), Kappa: c.Kappa()}
+}
+
+// ConfusionDetail is a confusion table with its per-class metrics.
+type ConfusionDetail struct {
+	Confusion *evaluate.Confusion     `json:"confusion"`
+	Classes   []evaluate.ClassMetrics `json:"classes"`
+}
+
+func confusionDetail(c *evaluate.Confusion) ConfusionDetail {
+	return ConfusionDetail{Confusion: c, Classes: c.PerClass()}
+}
+
+// MethodSummary is the cross-validated outcome of a baseline.
+type MethodSummary struct {
+	Accuracy float64 `json:"accuracy"`
+	SD       float64 `json:"sd"`
+	TableMetrics
 }
 
 // Baselines are the methods cross-validated beside the delta rule.
@@ -100,43 +120,31 @@ type Baselines struct {
 // CVReport is the cross-validated outcome of the main method with its
 // baselines, over the same folds.
 type CVReport struct {
-	Method           string                  `json:"method"`
-	Folds            int                     `json:"folds"`
-	Seed             uint64                  `json:"seed"`
-	Accuracy         Spread                  `json:"accuracy"`
-	BalancedAccuracy float64                 `json:"balanced_accuracy"`
-	MacroF1          float64                 `json:"macro_f1"`
-	Kappa            float64                 `json:"kappa"`
-	Confusion        *evaluate.Confusion     `json:"confusion"`
-	Classes          []evaluate.ClassMetrics `json:"classes"`
-	Baselines        Baselines               `json:"baselines"`
+	Method   string `json:"method"`
+	Folds    int    `json:"folds"`
+	Seed     uint64 `json:"seed"`
+	Accuracy Spread `json:"accuracy"`
+	TableMetrics
+	ConfusionDetail
+	Baselines Baselines `json:"baselines"`
 }
 
 // NewCVReport gathers the cross-validation results of the main method and
 // its majority and Hebbian baselines.
 func NewCVReport(seed uint64, main, majority, hebbian *evaluate.CVResult) *CVReport {
-	c := main.Confusion
 	return &CVReport{
-		Method:           main.Method,
-		Folds:            len(main.FoldAccuracy),
-		Seed:             seed,
-		Accuracy:         Spread{Mean: main.Mean, SD: main.SD, Folds: main.FoldAccuracy},
-		BalancedAccuracy: c.BalancedAccuracy(),
-		MacroF1:          c.MacroF1(),
-		Kappa:            c.Kappa(),
-		Confusion:        c,
-		Classes:          c.PerClass(),
-		Baselines:        Baselines{Majority: summarise(majority), Hebbian: summarise(hebbian)},
+		Method:          main.Method,
+		Folds:           len(main.FoldAccuracy),
+		Seed:            seed,
+		Accuracy:        Spread{Mean: main.Mean, SD: main.SD, Folds: main.FoldAccuracy},
+		TableMetrics:    tableMetrics(main.Confusion),
+		ConfusionDetail: confusionDetail(main.Confusion),
+		Baselines:       Baselines{Majority: summarise(majority), Hebbian: summarise(hebbian)},
 	}
 }
 
 func summarise(r *evaluate.CVResult) MethodSummary {
-	return MethodSummary{
-		Accuracy: r.Mean, SD: r.SD,
-		BalancedAccuracy: r.Confusion.BalancedAccuracy(),
-		MacroF1:          r.Confusion.MacroF1(),
-		Kappa:            r.Confusion.Kappa(),
-	}
+	return MethodSummary{Accuracy: r.Mean, SD: r.SD, TableMetrics: tableMetrics(r.Confusion)}
 }
 
 // FitReport is what `deltafit fit` reports.
@@ -150,23 +158,18 @@ type FitReport struct {
 // EvaluationReport is what `deltafit evaluate` reports: a saved model's
 // confusion table and metrics on labelled data.
 type EvaluationReport struct {
-	Data             DataSummary             `json:"data"`
-	Model            string                  `json:"model"`
-	Accuracy         float64                 `json:"accuracy"`
-	BalancedAccuracy float64                 `json:"balanced_accuracy"`
-	MacroF1          float64                 `json:"macro_f1"`
-	Kappa            float64                 `json:"kappa"`
-	Confusion        *evaluate.Confusion     `json:"confusion"`
-	Classes          []evaluate.ClassMetrics `json:"classes"`
+	Data     DataSummary `json:"data"`
+	Model    string      `json:"model"`
+	Accuracy float64     `json:"accuracy"`
+	TableMetrics
+	ConfusionDetail
 }
 
 // NewEvaluationReport reads the metrics off a confusion table.
 func NewEvaluationReport(data DataSummary, model string, c *evaluate.Confusion) *EvaluationReport {
 	return &EvaluationReport{
-		Data: data, Model: model,
-		Accuracy: c.Accuracy(), BalancedAccuracy: c.BalancedAccuracy(),
-		MacroF1: c.MacroF1(), Kappa: c.Kappa(),
-		Confusion: c, Classes: c.PerClass(),
+		Data: data, Model: model, Accuracy: c.Accuracy(),
+		TableMetrics: tableMetrics(c), ConfusionDetail: confusionDetail(c),
 	}
 }
 
