@@ -68,8 +68,8 @@ func (f *learnFlags) learner() (evaluate.Learner, error) {
 	l.Fit.Epochs = f.epochs
 	if f.rate != "auto" {
 		rate, err := strconv.ParseFloat(f.rate, 64)
-		if err != nil || !(rate > 0) || rate > 1e6 {
-			return l, usagef(`--rate %q: give a positive number or "auto"`, f.rate)
+		if err != nil || !(rate > 0) || rate > maxRate {
+			return l, usagef(`--rate %q: give a positive number up to 1e6, or "auto"`, f.rate)
 		}
 		l.Fit.Rate = rate
 	}
@@ -133,6 +133,9 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 	if err != nil {
 		return usageError{err}
 	}
+	if opts.output == "-" {
+		return usagef("-o -: the report goes to stdout; give the model a file name")
+	}
 	if opts.folds == 1 || opts.folds < 0 {
 		return usagef("--folds %d: give 0 for no cross-validation, or at least 2", opts.folds)
 	}
@@ -143,7 +146,7 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 	table := d.Table
 	study, err := evaluate.RunStudy(d, learner, opts.folds, opts.learn.seed)
 	if err != nil {
-		return divergenceHint(err)
+		return divergenceHint(err, opts.learn)
 	}
 	model := &export.Model{
 		Schema:   export.SchemaVersion,
@@ -197,11 +200,21 @@ func cvReport(s *evaluate.Study, seed uint64) *export.CVReport {
 	return export.NewCVReport(seed, s.Main, s.Majority, s.Hebbian)
 }
 
-func divergenceHint(err error) error {
-	if errors.Is(err, fit.ErrDiverged) {
-		return fmt.Errorf("%w; try --rate auto, or a smaller --rate", err)
+// maxRate is the largest --rate accepted (1e6 in the usage message).
+const maxRate = 1e6
+
+// divergenceHint adds what to try to a divergence error. The Hebbian rule
+// has no error term, so its weights grow with every epoch at any rate.
+func divergenceHint(err error, learn learnFlags) error {
+	switch {
+	case !errors.Is(err, fit.ErrDiverged):
+		return err
+	case learn.rule == "hebbian":
+		return fmt.Errorf("%w; the Hebbian rule's weights grow with every epoch: give fewer --epochs (1 gives the same decisions)", err)
+	case learn.rate == "auto":
+		return fmt.Errorf("%w; try a smaller --rate", err)
 	}
-	return err
+	return fmt.Errorf("%w; try --rate auto, or a smaller --rate", err)
 }
 
 func dataSummary(d *ingest.Dataset, plan *ingest.Plan, sha string) export.DataSummary {

@@ -34,7 +34,7 @@ Output goes to stdout, or atomically to the file given with -o.
 		},
 	}
 	opts.modelInput.add(cmd.Flags())
-	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the predictions here instead of stdout")
+	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the predictions here instead of stdout (- is stdout)")
 	return cmd
 }
 
@@ -51,7 +51,7 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 		return err
 	}
 	write := func(w io.Writer) error { return export.WritePredictionsCSV(w, predictions) }
-	if opts.output != "" {
+	if opts.output != "" && opts.output != "-" {
 		return export.WriteFile(opts.output, write)
 	}
 	return write(stdout)
