@@ -25,7 +25,7 @@ const witnessWeightsShown = 20
 // WriteCheckReport writes r in the given format.
 func WriteCheckReport(w io.Writer, format Format, r *CheckReport) error {
 	return writeReport(w, format, r, "deltafit check", r.Data, func(p *printer) {
-		p.line("space: %s, %d coordinates", spaceNote(r.Space), len(r.Inputs))
+		p.line("space: %s, %s", spaceNote(r.Space), count(len(r.Inputs), "coordinate"))
 		p.splits(r.Splits)
 		for _, s := range r.Splits {
 			switch {
@@ -121,16 +121,41 @@ func (p *printer) conflicts(c separate.Conflicts) {
 		count(c.Count, "group"), count(c.Rows, "row"), count(c.MinErrors, "error"), num(c.ErrorFloor))
 	rows := make([][]string, len(c.Groups))
 	for i, g := range c.Groups {
-		numbers := make([]string, len(g.Rows))
-		for k, r := range g.Rows {
-			numbers[k] = strconv.Itoa(r)
+		numbers := make([]string, min(len(g.Rows), conflictRowsShown))
+		for k := range numbers {
+			numbers[k] = strconv.Itoa(g.Rows[k])
 		}
-		rows[i] = []string{strconv.Itoa(i + 1), strings.Join(numbers, " "), strings.Join(g.Labels, " ")}
+		if len(g.Rows) > conflictRowsShown {
+			numbers = append(numbers, fmt.Sprintf("… (%d rows)", len(g.Rows)))
+		}
+		rows[i] = []string{strconv.Itoa(i + 1), strings.Join(numbers, " "), labelCounts(g.Labels)}
 	}
 	p.table([]string{"group", "rows", "classes"}, rows, nil)
 	if len(c.Groups) < c.Count {
 		p.line("the first %d of %d groups", len(c.Groups), c.Count)
 	}
+}
+
+// conflictRowsShown is how many row numbers of a conflicting group the text
+// and Markdown reports list; JSON has them all.
+const conflictRowsShown = 12
+
+// labelCounts counts each label of a group, in label order: "a 2, b 1".
+func labelCounts(labels []string) string {
+	var order []string
+	counts := map[string]int{}
+	for _, l := range labels {
+		if counts[l] == 0 {
+			order = append(order, l)
+		}
+		counts[l]++
+	}
+	slices.Sort(order)
+	items := make([]string, len(order))
+	for i, l := range order {
+		items[i] = fmt.Sprintf("%s %d", l, counts[l])
+	}
+	return strings.Join(items, ", ")
 }
 
 func (p *printer) profile(pr separate.Profile) {
