@@ -300,8 +300,12 @@ func (p *printer) data(d DataSummary) {
 
 func (p *printer) cv(r *CVReport) {
 	p.subheading(fmt.Sprintf("cross-validation: %d stratified folds, seed %d; encoding fitted on each training fold", r.Folds, r.Seed))
+	method := r.Method
+	if method == "hebbian" { // the fitted rule is also the baseline's: tell the rows apart
+		method = "hebbian (fitted)"
+	}
 	p.table([]string{"method", "accuracy", "sd", "balanced accuracy", "macro F1", "kappa"}, [][]string{
-		{r.Method, num(r.Accuracy.Mean), num(r.Accuracy.SD), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa)},
+		{method, num(r.Accuracy.Mean), num(r.Accuracy.SD), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa)},
 		methodRow("hebbian", r.Baselines.Hebbian),
 		methodRow("majority", r.Baselines.Majority),
 	}, nil)
