@@ -175,7 +175,11 @@ func standardized(d *ingest.Dataset) (fit.Patterns, []string, error) {
 				Err: fmt.Errorf("the cell is missing (%d in the column); the raw space needs every cell: fill them in, --ignore the column, or use the encoded space", n)}
 		}
 		mean, sd := stat.MeanStdDev(col.Numbers, nil)
-		if !(sd > 0) || math.IsInf(sd, 0) {
+		if math.IsInf(sd, 0) || math.IsNaN(sd) {
+			return fit.Patterns{}, nil, &ingest.DataError{File: d.Table.Name, Name: col.Name,
+				Err: fmt.Errorf("the values span more than a 64-bit float holds, which standardizing cannot scale; rescale the column, --ignore it, or use the encoded space")}
+		}
+		if !(sd > 0) {
 			continue // constant: no direction to separate along
 		}
 		cols, names = append(cols, col), append(names, col.Name)
