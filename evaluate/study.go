@@ -50,10 +50,9 @@ func RunStudy(d *ingest.Dataset, l Learner, folds int, seed uint64) (*Study, err
 }
 
 // HebbianBaseline is the contrast baseline of a learner: the same encoding
-// with the Hebbian rule, one epoch (further epochs only scale its weights)
-// and the automatic rate.
+// with the Hebbian rule (one pass, see fit.OnePass) at its automatic rate.
 func HebbianBaseline(l Learner) Learner {
-	l.Fit.Rule, l.Fit.Epochs, l.Fit.Rate = fit.Hebbian{}, 1, 0
+	l.Fit.Rule, l.Fit.Rate = fit.Hebbian{}, 0
 	return l
 }
 

@@ -22,6 +22,16 @@ type OutputUnit interface {
 	OutputUnit() Unit
 }
 
+// OnePass is implemented by a Rule whose update does not depend on the
+// weights: each epoch adds the same change again, so more epochs only scale
+// the weights and leave every decision as it was. Train makes one pass for
+// such a rule, and its automatic rate is 1/N, which makes the weights the
+// mean update over the patterns (for Hebbian, the mean target-input
+// correlation) however many patterns there are.
+type OnePass interface {
+	OnePass() bool
+}
+
 // Delta is the delta rule (Widrow & Hoff 1960, LMS): targets 1 and 0,
 // signal t − y.
 type Delta struct{}
@@ -61,6 +71,9 @@ func (Hebbian) Signal(target, _ float64) float64 { return target }
 
 // OutputUnit returns Linear.
 func (Hebbian) OutputUnit() Unit { return Linear }
+
+// OnePass returns true: the Hebbian update ignores the weights.
+func (Hebbian) OnePass() bool { return true }
 
 // RuleByName returns the rule named name: "delta" or "hebbian".
 func RuleByName(name string) (Rule, error) {

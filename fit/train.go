@@ -28,6 +28,7 @@ const (
 	StopZeroErrors = "zero-errors"
 	StopConverged  = "converged"
 	StopEpochs     = "epochs"
+	StopOnePass    = "one-pass" // a OnePass rule's single epoch
 )
 
 // Options control Train. The zero value trains logistic units with the
@@ -92,6 +93,7 @@ type trainer struct {
 	classes  []int
 	rule     Rule
 	opts     Options
+	onePass  bool // the rule is OnePass: one epoch
 	result   Result
 
 	net     *Network
@@ -147,6 +149,13 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 		return nil, err
 	}
 	auto := opts.Rate == 0
+	onePass := false
+	if op, ok := opts.Rule.(OnePass); ok && op.OnePass() {
+		onePass, opts.Epochs = true, 1
+		if auto {
+			rate = 1 / float64(n)
+		}
+	}
 	if !auto {
 		rate = opts.Rate
 	}
@@ -158,6 +167,7 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 		classes:  classes,
 		rule:     opts.Rule,
 		opts:     opts,
+		onePass:  onePass,
 		result:   Result{Rate: rate, RateAuto: auto, LambdaMax: lambdaMax, TraceR: traceR},
 		weights:  make([]float64, units*width),
 		biases:   make([]float64, units),
@@ -181,7 +191,7 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 	for range min(runtime.GOMAXPROCS(0), len(t.chunkStats)) {
 		t.chunkOutputs = append(t.chunkOutputs, make([]float64, units))
 	}
-	if opts.Batch {
+	if opts.Batch || onePass {
 		t.sumWeights = make([]float64, units*width)
 		t.sumBiases = make([]float64, units)
 	} else {
@@ -224,6 +234,8 @@ func (t *trainer) run() (*Result, error) {
 				ErrDiverged, epoch, t.result.Rate, 2/t.result.LambdaMax)
 		}
 		switch {
+		case t.onePass:
+			t.result.Stop = StopOnePass
 		case stats.Errors == 0 && !t.opts.KeepGoing:
 			t.result.Stop = StopZeroErrors
 		case epoch > 1 && math.Abs(stats.Loss-previous) < t.opts.Tolerance*math.Max(1, previous):
@@ -242,9 +254,12 @@ func (t *trainer) run() (*Result, error) {
 
 // epoch trains one epoch and measures the weights it ends with.
 func (t *trainer) epoch(epoch int) EpochStats {
-	if t.opts.Batch {
+	switch {
+	case t.onePass:
+		t.onePassEpoch()
+	case t.opts.Batch:
 		t.batchEpoch()
-	} else {
+	default:
 		t.onlineEpoch(epoch)
 	}
 	return t.measure(epoch)
@@ -295,6 +310,25 @@ func (t *trainer) shuffle(epoch int) {
 // batchEpoch applies the mean of the per-pattern updates once, all computed
 // with the weights the epoch starts with.
 func (t *trainer) batchEpoch() {
+	t.sumUpdates()
+	step := t.result.Rate / float64(t.n)
+	axpy(step, t.sumWeights, t.weights)
+	axpy(step, t.sumBiases, t.biases)
+}
+
+// onePassEpoch applies rate times the summed updates of a OnePass rule.
+// Summing before scaling keeps equal sums equal (for 0/1 inputs the sums
+// are whole numbers, exact in float64), so ties between classes stay ties
+// whatever the rate and the order of the rows.
+func (t *trainer) onePassEpoch() {
+	t.sumUpdates()
+	axpy(t.result.Rate, t.sumWeights, t.weights)
+	axpy(t.result.Rate, t.sumBiases, t.biases)
+}
+
+// sumUpdates sums each pattern's update, without the rate, computed with
+// the weights the epoch starts with.
+func (t *trainer) sumUpdates() {
 	clear(t.sumWeights)
 	clear(t.sumBiases)
 	width := t.patterns.Width
@@ -307,9 +341,6 @@ func (t *trainer) batchEpoch() {
 			t.sumBiases[j] += signal
 		}
 	}
-	step := t.result.Rate / float64(t.n)
-	axpy(step, t.sumWeights, t.weights)
-	axpy(step, t.sumBiases, t.biases)
 }
 
 // measure returns the loss and the error count with the current weights.

@@ -204,13 +204,13 @@ func cvReport(s *evaluate.Study, seed uint64) *export.CVReport {
 const maxRate = 1e6
 
 // divergenceHint adds what to try to a divergence error. The Hebbian rule
-// has no error term, so its weights grow with every epoch at any rate.
+// makes one pass, so its weights are the rate times the summed updates.
 func divergenceHint(err error, learn learnFlags) error {
 	switch {
 	case !errors.Is(err, fit.ErrDiverged):
 		return err
-	case learn.rule == "hebbian":
-		return fmt.Errorf("%w; the Hebbian rule's weights grow with every epoch: give fewer --epochs (1 gives the same decisions)", err)
+	case learn.rule == "hebbian" && learn.rate != "auto":
+		return fmt.Errorf("%w; the Hebbian weights are the rate times the summed updates: try --rate auto (1/rows)", err)
 	case learn.rate == "auto":
 		return fmt.Errorf("%w; try a smaller --rate", err)
 	}
