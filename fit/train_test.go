@@ -373,3 +373,42 @@ func TestTrainSameOnAnyCoreCount(t *testing.T) {
 		t.Errorf("chunked loss %v, row-by-row %v", got, loss)
 	}
 }
+
+// The Hebbian rule's decisions do not depend on the rate: its weights are
+// the rate times the summed updates (Hebb 1949; scaling every output by a
+// positive constant keeps the arg max), and one pass is all it makes.
+func TestHebbianDecisionsIgnoreTheRate(t *testing.T) {
+	rows, species := readIris(t)
+	xor, xorLabels := readTruthTable(t, "xor.csv")
+	for _, tc := range []struct {
+		name       string
+		patterns   Patterns
+		classes    []int
+		numClasses int
+	}{
+		{"iris raw", patternsOf(rows), species, 3},
+		{"XOR", xor, xorLabels, 2},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var first []int
+			for _, rate := range []float64{0, 1e-3, 0.37, 50} {
+				res, err := Train(tc.patterns, tc.classes, tc.numClasses, Options{Rule: Hebbian{}, Rate: rate, Epochs: 200})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if len(res.History) != 1 || res.Stop != StopOnePass {
+					t.Fatalf("rate %v: %d epochs, stop %q; want one pass", rate, len(res.History), res.Stop)
+				}
+				got := make([]int, len(tc.classes))
+				for i := range got {
+					got[i] = res.Network.Classify(tc.patterns.Row(i))
+				}
+				if first == nil {
+					first = got
+				} else if !slices.Equal(first, got) {
+					t.Errorf("rate %v changed the decisions", rate)
+				}
+			}
+		})
+	}
+}
