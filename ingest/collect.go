@@ -222,9 +222,9 @@ func numberGetter(arr arrow.Array) (func(int) float64, bool) {
 	case *array.Float64:
 		return a.Value, true
 	case *array.Float32:
-		return func(i int) float64 { return float64(a.Value(i)) }, true
+		return func(i int) float64 { return widen32(a.Value(i)) }, true
 	case *array.Float16:
-		return func(i int) float64 { return float64(a.Value(i).Float32()) }, true
+		return func(i int) float64 { return widen32(a.Value(i).Float32()) }, true
 	case *array.Int64:
 		return func(i int) float64 { return float64(a.Value(i)) }, true
 	case *array.Int32:
@@ -243,6 +243,15 @@ func numberGetter(arr arrow.Array) (func(int) float64, bool) {
 		return func(i int) float64 { return float64(a.Value(i)) }, true
 	}
 	return nil, false
+}
+
+// widen32 turns a float32 into the float64 nearest its shortest decimal
+// form: 5.1 stored as float32 reads as 5.1, as it would from CSV, rather
+// than as 5.099999904632568, so cuts fitted on one format apply to the
+// other.
+func widen32(v float32) float64 {
+	x, _ := strconv.ParseFloat(strconv.FormatFloat(float64(v), 'g', -1, 32), 64)
+	return x
 }
 
 // finish turns the gathered cells into a Column of the declared or inferred

@@ -5,11 +5,13 @@ import (
 	"fmt"
 	"io"
 	"runtime"
+	"slices"
 	"strings"
 	"testing"
 	"testing/iotest"
 
 	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet"
@@ -302,5 +304,28 @@ func TestParseFormat(t *testing.T) {
 				t.Errorf("error %q does not start with the package name", err)
 			}
 		})
+	}
+}
+
+// A float32 Arrow column reads as the decimal it was written from, as CSV
+// would give it: 5.1f is 5.1, not 5.099999904632568 (IEEE 754 binary32
+// holds about 7 significant decimal digits; common practice).
+func TestFloat32ReadsAsItsDecimal(t *testing.T) {
+	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
+	defer mem.AssertSize(t, 0)
+	b := array.NewFloat32Builder(mem)
+	b.AppendValues([]float32{5.1, 0.2, 1e-7, 3.4028235e38}, nil)
+	col := b.NewArray()
+	b.Release()
+	rec := array.NewRecordBatch(arrow.NewSchema([]arrow.Field{{Name: "x", Type: arrow.PrimitiveTypes.Float32}}, nil), []arrow.Array{col}, 4)
+	col.Release()
+	data := writeArrowStream(t, mem, rec, 4)
+	rec.Release()
+	table, err := ingest.ReadTable("f32.arrows", bytes.NewReader(data), ingest.ReadOptions{Allocator: mem})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := table.Column("x").Numbers, []float64{5.1, 0.2, 1e-7, 3.4028235e38}; !slices.Equal(got, want) {
+		t.Errorf("read %v, want %v", got, want)
 	}
 }
