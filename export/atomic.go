@@ -20,6 +20,9 @@ import (
 // the next successful WriteFile of the same path removes every such file
 // whose process no longer runs, and never one of a live writer.
 func WriteFile(path string, write func(io.Writer) error) (err error) {
+	if info, err := os.Stat(path); err == nil && info.IsDir() {
+		return fmt.Errorf("export: cannot write %s: it is a directory; give a file name", path)
+	}
 	dir, base := filepath.Split(path)
 	if dir == "" {
 		dir = "."

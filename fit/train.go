@@ -230,7 +230,7 @@ func (t *trainer) run() (*Result, error) {
 		stats := t.epoch(epoch)
 		t.result.History = append(t.result.History, stats)
 		if !t.weightsFinite() || !finite(stats.Loss) || stats.Loss > divergedLoss {
-			return nil, fmt.Errorf("%w at epoch %d (rate %g, stable below 2/λmax = %.4g)",
+			return nil, fmt.Errorf("%w at epoch %d (rate %.4g, stable below 2/λmax = %.4g)",
 				ErrDiverged, epoch, t.result.Rate, 2/t.result.LambdaMax)
 		}
 		switch {

@@ -71,9 +71,9 @@ separable, or undecided).`,
 }
 
 func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader, stdout, _ io.Writer) error {
-	format, err := export.ParseFormat(opts.format)
+	format, err := reportFormat(opts.format)
 	if err != nil {
-		return usageError{err}
+		return err
 	}
 	space, err := separate.ParseSpace(opts.space)
 	if err != nil {

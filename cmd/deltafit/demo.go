@@ -44,9 +44,9 @@ the tool and says nothing about real kilns.
 }
 
 func runDemo(_ context.Context, opts demoOptions, stdout io.Writer) error {
-	format, err := export.ParseFormat(opts.format)
+	format, err := reportFormat(opts.format)
 	if err != nil {
-		return usageError{err}
+		return err
 	}
 	table, err := ingest.ReadTable(demo.Name, bytes.NewReader(demo.CSV), ingest.ReadOptions{})
 	if err != nil {

@@ -40,9 +40,9 @@ per-class precision, recall, F1 and support.
 }
 
 func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
-	format, err := export.ParseFormat(opts.format)
+	format, err := reportFormat(opts.format)
 	if err != nil {
-		return usageError{err}
+		return err
 	}
 	model, table, sha, err := opts.load(path, stdin)
 	if err != nil {

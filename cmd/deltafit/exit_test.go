@@ -19,7 +19,7 @@ func TestExitCodes(t *testing.T) {
 		err  string // substring of the one stderr line
 	}{
 		{"ok", []string{"fit", iris, "--target", "species"}, 0, ""},
-		{"no args", []string{"fit"}, 2, "accepts 1 arg"},
+		{"no args", []string{"fit"}, 2, "fit takes one DATA argument"},
 		{"unknown flag", []string{"fit", iris, "--target", "species", "--nope"}, 2, "unknown flag"},
 		{"missing target flag", []string{"fit", iris}, 2, "--target is required"},
 		{"bad rule", []string{"fit", iris, "--target", "species", "--rule", "magic"}, 2, "--rule"},

@@ -36,7 +36,7 @@ func (f *learnFlags) add(cmd *cobra.Command) {
 	fs.StringSliceVar(&f.ignore, "ignore", nil, "columns to leave out, such as ids (comma-separated)")
 	fs.StringVar(&f.numeric, "numeric", "thermometer:8", "numeric encoding: thermometer[:K], onehot[:K], threshold[:V], zscore or minmax")
 	fs.StringVar(&f.categorical, "categorical", "onehot:1", "categorical encoding: onehot[:MIN], values seen fewer than MIN times share the other unit")
-	fs.StringVar(&f.rule, "rule", "delta", "learning rule: delta or hebbian")
+	fs.StringVar(&f.rule, "rule", "delta", "learning rule: delta, or hebbian (one pass, linear outputs: --epochs and --unit do not apply)")
 	fs.StringVar(&f.unit, "unit", "logistic", "output unit: logistic or linear")
 	fs.IntVar(&f.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
 	fs.StringVar(&f.rate, "rate", "auto", `learning rate: a positive number, or "auto" to derive it from the inputs`)
@@ -49,6 +49,11 @@ func (f *learnFlags) learner() (evaluate.Learner, error) {
 	var err error
 	if f.target == "" {
 		return l, usagef("--target is required: name the column that holds the class")
+	}
+	for _, col := range f.ignore {
+		if col == "" {
+			return l, usagef("--ignore %q: a column name is empty; separate names with single commas", strings.Join(f.ignore, ","))
+		}
 	}
 	if l.Plan.Numeric, err = ingest.ParseNumericEncoding(f.numeric); err != nil {
 		return l, usagef("--numeric: %v", err)
@@ -129,12 +134,15 @@ beside the majority-class and Hebbian baselines.
 }
 
 func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, stdout, _ io.Writer) error {
-	format, err := export.ParseFormat(opts.format)
+	format, err := reportFormat(opts.format)
 	if err != nil {
-		return usageError{err}
+		return err
 	}
 	if opts.output == "-" {
 		return usagef("-o -: the report goes to stdout; give the model a file name")
+	}
+	if err := checkOutput(opts.output, path); err != nil {
+		return err
 	}
 	if opts.folds == 1 || opts.folds < 0 {
 		return usagef("--folds %d: give 0 for no cross-validation, or at least 2", opts.folds)

@@ -10,6 +10,7 @@ import (
 
 	"github.com/spf13/pflag"
 
+	"deltafit/export"
 	"deltafit/ingest"
 )
 
@@ -53,6 +54,9 @@ func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
 		if opts.Kinds == nil {
 			opts.Kinds = map[string]ingest.Kind{}
 		}
+		if _, twice := opts.Kinds[col]; twice {
+			return opts, usagef("--kind: column %q is given a kind twice; give one", col)
+		}
 		opts.Kinds[col] = k
 	}
 	return opts, nil
@@ -79,4 +83,30 @@ func readTable(path string, stdin io.Reader, opts ingest.ReadOptions) (*ingest.T
 		return nil, "", fmt.Errorf("%s: %w", path, err)
 	}
 	return t, hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// reportFormat parses --format, as a usage error when it is not a format.
+func reportFormat(s string) (export.Format, error) {
+	format, err := export.ParseFormat(s)
+	if err != nil {
+		return "", usagef("--format %q: give text, json or markdown", s)
+	}
+	return format, nil
+}
+
+// checkOutput refuses an output path that names an input file (the data,
+// or predict's model), which writing would replace.
+func checkOutput(output, input string) error {
+	if output == "" || input == "-" {
+		return nil
+	}
+	out, err := os.Stat(output)
+	if err != nil {
+		return nil // a new file
+	}
+	in, err := os.Stat(input)
+	if err == nil && os.SameFile(in, out) {
+		return usagef("-o %s is also an input of this command; writing it would replace the input", output)
+	}
+	return nil
 }

@@ -109,6 +109,9 @@ func usageArgs(check cobra.PositionalArgs) cobra.PositionalArgs {
 	}
 	return func(cmd *cobra.Command, args []string) error {
 		if err := check(cmd, args); err != nil {
+			if strings.Contains(cmd.Use, "DATA") {
+				return usagef("%s takes one DATA argument, a path or - for stdin; got %d", cmd.Name(), len(args))
+			}
 			return usageError{err}
 		}
 		return nil

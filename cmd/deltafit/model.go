@@ -21,7 +21,7 @@ type modelInput struct {
 
 func (m *modelInput) add(fs *pflag.FlagSet) {
 	m.input.add(fs)
-	fs.StringVar(&m.model, "model", "", "model file written by fit -o (required)")
+	fs.StringVar(&m.model, "model", "", "model file written by fit -o, or - for stdin when DATA is a file (required)")
 	fs.BoolVar(&m.strict, "strict", false, "refuse cells the model was not trained on (unseen categories, missing cells) instead of warning")
 }
 
@@ -31,12 +31,19 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *ingest.
 	if m.model == "" {
 		return nil, nil, "", usagef("--model is required: give a model file written by fit -o")
 	}
-	f, err := os.Open(m.model)
-	if err != nil {
-		return nil, nil, "", fmt.Errorf("cannot open the model: %w", err)
+	var modelFile io.Reader = stdin
+	if m.model == "-" && path == "-" {
+		return nil, nil, "", usagef("--model - and DATA - cannot both be stdin; give one of them as a file")
 	}
-	defer f.Close()
-	model, err := export.ReadModel(m.model, f)
+	if m.model != "-" {
+		f, err := os.Open(m.model)
+		if err != nil {
+			return nil, nil, "", fmt.Errorf("cannot open the model: %w", err)
+		}
+		defer f.Close()
+		modelFile = f
+	}
+	model, err := export.ReadModel(ingest.DisplayName(m.model), modelFile)
 	if err != nil {
 		return nil, nil, "", fmt.Errorf("%w; fit a new model with deltafit fit -o", err)
 	}

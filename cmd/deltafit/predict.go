@@ -39,6 +39,11 @@ Output goes to stdout, or atomically to the file given with -o.
 }
 
 func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
+	for _, input := range []string{path, opts.model} {
+		if err := checkOutput(opts.output, input); err != nil {
+			return err
+		}
+	}
 	model, table, _, err := opts.load(path, stdin)
 	if err != nil {
 		return err

@@ -36,9 +36,9 @@ pass for each. It exits 1 if any case fails.
 }
 
 func runSelfcheck(_ context.Context, opts selfcheckOptions, stdout io.Writer) error {
-	format, err := export.ParseFormat(opts.format)
+	format, err := reportFormat(opts.format)
 	if err != nil {
-		return usageError{err}
+		return err
 	}
 	cases, err := reference.Run()
 	if err != nil {
