@@ -133,7 +133,7 @@ beside the majority-class and Hebbian baselines.
 	return cmd
 }
 
-func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, stdout, _ io.Writer) error {
+func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
 	format, err := reportFormat(opts.format)
 	if err != nil {
 		return err
@@ -155,6 +155,9 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 	study, err := evaluate.RunStudy(d, learner, opts.folds, opts.learn.seed)
 	if err != nil {
 		return divergenceHint(err, opts.learn)
+	}
+	if study.Fitted.Plan.Width() == 0 {
+		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", ingest.DisplayName(path))
 	}
 	model := &export.Model{
 		Schema:   export.SchemaVersion,
