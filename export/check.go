@@ -24,20 +24,53 @@ const witnessWeightsShown = 20
 
 // WriteCheckReport writes r in the given format.
 func WriteCheckReport(w io.Writer, format Format, r *CheckReport) error {
-	return writeReport(w, format, r, "deltafit check", r.Data, func(p *printer) {
-		p.line("space: %s, %s", spaceNote(r.Space), count(len(r.Inputs), "coordinate"))
-		p.splits(r.Splits)
-		for _, s := range r.Splits {
-			switch {
-			case s.Certificate != nil:
-				p.certificate(s)
-			case s.Witness != nil:
-				p.witness(s, r.Inputs)
-			}
+	if format == JSON {
+		return WriteJSON(w, r)
+	}
+	// The frame of writeReport, with a data line that says how the
+	// features became coordinates in either space.
+	p := &printer{w: w, markdown: format == Markdown}
+	p.heading("deltafit check")
+	p.checkData(r)
+	p.checkBody(r)
+	return p.err
+}
+
+func (p *printer) checkData(r *CheckReport) {
+	d := r.Data
+	if r.Space == separate.Raw {
+		p.line("data: %s, %s, %s, not encoded (raw space)", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"))
+	} else {
+		p.line("data: %s, %s, %s encoded as %s", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"), count(len(r.Inputs), "input unit"))
+	}
+	p.line("target: %s, %d classes (%s)", d.Target, len(d.Labels), classList(d.Labels, d.ClassCounts))
+}
+
+// classList lists each label with its count: "a 2, b 1".
+func classList(labels []string, counts []int) string {
+	items := make([]string, len(labels))
+	for i, l := range labels {
+		items[i] = fmt.Sprintf("%s %d", l, counts[i])
+	}
+	return strings.Join(items, ", ")
+}
+
+func (p *printer) checkBody(r *CheckReport) {
+	p.line("space: %s, %s", spaceNote(r.Space), count(len(r.Inputs), "coordinate"))
+	if len(r.LeftOut) > 0 {
+		p.line("left out of the raw space: %s", separate.LeftOutList(r.LeftOut))
+	}
+	p.splits(r.Splits)
+	for _, s := range r.Splits {
+		switch {
+		case s.Certificate != nil:
+			p.certificate(s)
+		case s.Witness != nil:
+			p.witness(s, r.Inputs)
 		}
-		p.conflicts(r.Conflicts)
-		p.profile(r.Profile)
-	})
+	}
+	p.conflicts(r.Conflicts)
+	p.profile(r.Profile)
 }
 
 func spaceNote(s separate.Space) string {
@@ -52,6 +85,7 @@ func splitName(s separate.Split) string { return s.Positive + " against " + s.Ne
 func (p *printer) splits(splits []separate.Split) {
 	p.subheading("linear separability (each answer verified on the data)")
 	rows := make([][]string, len(splits))
+	var notSolved []string // the reasons of the splits over the input cap, each once
 	for i, s := range splits {
 		var evidence string
 		switch {
@@ -59,12 +93,20 @@ func (p *printer) splits(splits []separate.Split) {
 			evidence = fmt.Sprintf("certificate of %d rows, residual %s", len(s.Certificate.Rows), num(s.Certificate.Residual))
 		case s.Witness != nil:
 			evidence = fmt.Sprintf("witness hyperplane, margin %s, %d rows checked", num(s.Witness.Margin), s.Witness.Rows)
+		case s.Verdict == separate.TooManyInputs:
+			evidence = "see below"
+			if !slices.Contains(notSolved, s.Reason) {
+				notSolved = append(notSolved, s.Reason)
+			}
 		default:
 			evidence = s.Reason
 		}
 		rows[i] = []string{s.Positive, s.Negative, strconv.Itoa(s.Rows), string(s.Verdict), evidence}
 	}
 	p.table([]string{"positive", "negative", "rows", "verdict", "evidence"}, rows, nil)
+	for _, reason := range notSolved {
+		p.line("%s", reason)
+	}
 }
 
 func (p *printer) certificate(s separate.Split) {
@@ -121,14 +163,7 @@ func (p *printer) conflicts(c separate.Conflicts) {
 		count(c.Count, "group"), count(c.Rows, "row"), count(c.MinErrors, "error"), num(c.ErrorFloor))
 	rows := make([][]string, len(c.Groups))
 	for i, g := range c.Groups {
-		numbers := make([]string, min(len(g.Rows), conflictRowsShown))
-		for k := range numbers {
-			numbers[k] = strconv.Itoa(g.Rows[k])
-		}
-		if len(g.Rows) > conflictRowsShown {
-			numbers = append(numbers, fmt.Sprintf("… (%d rows)", len(g.Rows)))
-		}
-		rows[i] = []string{strconv.Itoa(i + 1), strings.Join(numbers, " "), labelCounts(g.Labels)}
+		rows[i] = []string{strconv.Itoa(i + 1), rowList(g.Rows), labelCounts(g.Labels)}
 	}
 	p.table([]string{"group", "rows", "classes"}, rows, nil)
 	if len(c.Groups) < c.Count {
@@ -151,20 +186,20 @@ func labelCounts(labels []string) string {
 		counts[l]++
 	}
 	slices.Sort(order)
-	items := make([]string, len(order))
+	n := make([]int, len(order))
 	for i, l := range order {
-		items[i] = fmt.Sprintf("%s %d", l, counts[l])
+		n[i] = counts[l]
 	}
-	return strings.Join(items, ", ")
+	return classList(order, n)
 }
 
 func (p *printer) profile(pr separate.Profile) {
 	p.subheading("profile")
-	counts := make([]string, len(pr.Classes))
+	labels, counts := make([]string, len(pr.Classes)), make([]int, len(pr.Classes))
 	for i, c := range pr.Classes {
-		counts[i] = fmt.Sprintf("%s %d", c.Label, c.Count)
+		labels[i], counts[i] = c.Label, c.Count
 	}
-	p.line("rows: %d; classes: %s; imbalance ratio (largest/smallest) %s", pr.Rows, strings.Join(counts, ", "), num(pr.Imbalance))
+	p.line("rows: %d; classes: %s; imbalance ratio (largest/smallest) %s", pr.Rows, classList(labels, counts), num(pr.Imbalance))
 	p.line("constant columns: %s", listOrNone(pr.Constant))
 	p.line("columns with missing cells: %s", columnCounts(pr.Missing))
 	p.line("categorical cardinality: %s", columnCounts(pr.Cardinality))
@@ -173,6 +208,49 @@ func (p *printer) profile(pr separate.Profile) {
 		suspects[i] = fmt.Sprintf("%s splits %s from the rest (%s)", s.Column, s.Class, s.How)
 	}
 	p.line("single columns that split a class off on their own (leakage suspects): %s", listOrNone(suspects))
+	p.duplicates(pr)
+}
+
+// duplicateGroupsShown is how many groups of duplicate rows the text and
+// Markdown reports list; JSON has every group it was given.
+const duplicateGroupsShown = 5
+
+func (p *printer) duplicates(pr separate.Profile) {
+	if pr.DuplicateRows == 0 {
+		p.line("duplicate rows (same features and class): none")
+		return
+	}
+	groups := make([]string, min(len(pr.DuplicateGroups), duplicateGroupsShown))
+	for i := range groups {
+		groups[i] = rowList(pr.DuplicateGroups[i])
+	}
+	more := ""
+	if pr.DuplicateRows > duplicateRowsIn(pr.DuplicateGroups[:len(groups)]) {
+		more = "; …"
+	}
+	p.line("duplicate rows (same features and class): %d, each a repeat of an earlier row (rows %s%s); cross-validation may put copies of a row on both sides of a fold, which inflates its accuracy",
+		pr.DuplicateRows, strings.Join(groups, "; "), more)
+}
+
+// duplicateRowsIn counts the repeats within groups.
+func duplicateRowsIn(groups [][]int) int {
+	n := 0
+	for _, g := range groups {
+		n += len(g) - 1
+	}
+	return n
+}
+
+// rowList lists at most conflictRowsShown row numbers, then the group's size.
+func rowList(rows []int) string {
+	numbers := make([]string, min(len(rows), conflictRowsShown))
+	for k := range numbers {
+		numbers[k] = strconv.Itoa(rows[k])
+	}
+	if len(rows) > conflictRowsShown {
+		numbers = append(numbers, fmt.Sprintf("… (%d rows)", len(rows)))
+	}
+	return strings.Join(numbers, " ")
 }
 
 func columnCounts(cc []separate.ColumnCount) string {

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -41,11 +42,18 @@ the convex hulls of the sides meet and no single layer can separate them.
 Separable: it prints a witness hyperplane (weights, bias) with its margin.
 Both are checked row by row on the data before they are printed; one that
 fails the check is reported as "undecided (numerical)" with the reason.
+Above ` + strconv.Itoa(separate.MaxInputs) + ` inputs (coordinates) the exact program is not solved, as
+its time grows about as the fourth power of the inputs: each split is
+"undecided (too many inputs)", unless a pattern on both sides proves it not
+separable. Use fewer columns, --numeric zscore or threshold, a smaller
+thermometer:K, or --space raw. The raw space names the columns it leaves out.
 
 It also reports conflicting rows (identical inputs, different classes) with
 the error floor they impose on any classifier, and a profile of the data:
 class counts and imbalance, constant columns, missing cells, categorical
-cardinalities, and single columns that split a class off on their own.
+cardinalities, single columns that split a class off on their own, and
+duplicate rows (same features and class), which cross-validation may put on
+both sides of a fold.
 ` + exitStatusHelp + `
 With --require separable: 3 when any split is not proven separable (not
 separable, or undecided).`,

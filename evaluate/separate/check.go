@@ -1,9 +1,11 @@
 package separate
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 
 	"gonum.org/v1/gonum/stat"
 
@@ -41,15 +43,20 @@ type CheckOptions struct {
 	Plan  ingest.PlanOptions // the encoding, for the encoded space
 	Pairs bool               // also check each pair of classes
 	Seed  uint64             // see Options.Seed
-	// Groups is how many conflicting groups to list (default
-	// DefaultGroups; negative lists none).
+	// Groups is how many conflicting and duplicate groups to list
+	// (default DefaultGroups; negative lists none).
 	Groups int
+	// MaxInputs is Options.MaxInputs (default MaxInputs).
+	MaxInputs int
 }
 
 // Report is what Check finds.
 type Report struct {
-	Space     Space     `json:"space"`
-	Inputs    []string  `json:"inputs"` // names of the coordinates, in order
+	Space  Space    `json:"space"`
+	Inputs []string `json:"inputs"` // names of the coordinates, in order
+	// LeftOut lists the feature columns the raw space leaves out, and why
+	// (none in the encoded space).
+	LeftOut   []LeftOut `json:"space_left_out"`
 	Splits    []Split   `json:"splits"`
 	Conflicts Conflicts `json:"conflicts"`
 	Profile   Profile   `json:"profile"`
@@ -84,15 +91,16 @@ func Check(d *ingest.Dataset, opts CheckOptions) (*Report, error) {
 	if opts.Groups == 0 {
 		opts.Groups = DefaultGroups
 	}
-	p, names, err := Coordinates(d, opts.Space, opts.Plan)
+	p, names, leftOut, err := Coordinates(d, opts.Space, opts.Plan)
 	if err != nil {
 		return nil, err
 	}
 	r := &Report{
 		Space:     opts.Space,
 		Inputs:    names,
+		LeftOut:   leftOut,
 		Conflicts: FindConflicts(p, d.Classes, d.Labels, max(opts.Groups, 0)),
-		Profile:   NewProfile(d),
+		Profile:   NewProfile(d, max(opts.Groups, 0)),
 	}
 	byClass := make([][]int, len(d.Labels))
 	for row, c := range d.Classes {
@@ -122,13 +130,22 @@ func Check(d *ingest.Dataset, opts CheckOptions) (*Report, error) {
 		}
 	}
 	for _, s := range splits {
-		res, err := Separate(p, s[0].rows, s[1].rows, Options{Seed: opts.Seed})
+		res, err := Separate(p, s[0].rows, s[1].rows, Options{Seed: opts.Seed, MaxInputs: opts.MaxInputs})
 		if err != nil {
 			return nil, fmt.Errorf("separate: %s against %s: %w", s[0].name, s[1].name, err)
+		}
+		if res.Verdict == TooManyInputs {
+			res.Reason += "; " + fewerInputs[opts.Space]
 		}
 		r.Splits = append(r.Splits, newSplit(s[0].name, s[1].name, len(s[0].rows)+len(s[1].rows), res))
 	}
 	return r, nil
+}
+
+// fewerInputs says, for each space, how to bring the inputs under the cap.
+var fewerInputs = map[Space]string{
+	Encoded: "use fewer feature columns (--ignore), one unit per numeric column (--numeric zscore or threshold) or a smaller thermometer:K, or --space raw",
+	Raw:     "use fewer numeric columns (--ignore)",
 }
 
 func newSplit(positive, negative string, rows int, res *Result) Split {
@@ -136,57 +153,79 @@ func newSplit(positive, negative string, rows int, res *Result) Split {
 		Positive: positive, Negative: negative, Verdict: res.Verdict, Reason: res.Reason, Rows: rows,
 		Distance: res.Distance, Certificate: res.Certificate, Witness: res.Witness,
 	}
-	if res.Verdict != Undecided {
+	if res.Verdict == Separable || res.Verdict == NotSeparable {
 		separable := res.Verdict == Separable
 		s.Separable = &separable
 	}
 	return s
 }
 
+// LeftOut is a feature column the raw space leaves out, and why.
+type LeftOut struct {
+	Column string `json:"column"`
+	Reason string `json:"reason"`
+}
+
 // Coordinates returns the rows of d in the given space, with the names of
-// the coordinates.
-func Coordinates(d *ingest.Dataset, space Space, plan ingest.PlanOptions) (fit.Patterns, []string, error) {
+// the coordinates and, in the raw space, the feature columns left out.
+func Coordinates(d *ingest.Dataset, space Space, plan ingest.PlanOptions) (fit.Patterns, []string, []LeftOut, error) {
 	switch space {
 	case Encoded:
 		fitted, err := ingest.FitPlan(d.Features, nil, plan)
 		if err != nil {
-			return fit.Patterns{}, nil, err
+			return fit.Patterns{}, nil, nil, err
 		}
 		values, _ := fitted.EncodeTo(nil, d.Features, nil)
-		return fit.Patterns{Width: fitted.Width(), Values: values, Rows: d.Table.Rows}, fitted.UnitNames(), nil
+		return fit.Patterns{Width: fitted.Width(), Values: values, Rows: d.Table.Rows}, fitted.UnitNames(), []LeftOut{}, nil
 	case Raw:
 		return standardized(d)
 	}
-	return fit.Patterns{}, nil, fmt.Errorf("separate: unknown space %q (want encoded or raw)", space)
+	return fit.Patterns{}, nil, nil, fmt.Errorf("separate: unknown space %q (want encoded or raw)", space)
 }
 
-// standardized returns the numeric feature columns of d as z-scores.
-func standardized(d *ingest.Dataset) (fit.Patterns, []string, error) {
+// Why the raw space leaves a feature column out (besides its kind, when it
+// is not numeric).
+const (
+	constant   = "constant"
+	tinySpread = "its spread is too small for a 64-bit float: the standard deviation rounds to 0"
+)
+
+// standardized returns the numeric feature columns of d as z-scores, and
+// the feature columns it leaves out.
+func standardized(d *ingest.Dataset) (fit.Patterns, []string, []LeftOut, error) {
 	var cols []*ingest.Column
 	var names []string
 	var centers, scales []float64
+	leftOut := []LeftOut{}
 	for _, col := range d.Features {
 		if col.Kind != ingest.Numeric {
+			leftOut = append(leftOut, LeftOut{col.Name, col.Kind.String()})
 			continue
 		}
+		position := slices.Index(d.Table.Columns, col) + 1 // 0 (unknown) when col is not the table's
 		if n := col.MissingCount(); n > 0 {
 			first := slices.Index(col.Missing, true)
-			return fit.Patterns{}, nil, &ingest.DataError{File: d.Table.Name, Row: first + 1, Name: col.Name,
+			return fit.Patterns{}, nil, nil, &ingest.DataError{File: d.Table.Name, Row: first + 1, Column: position, Name: col.Name,
 				Err: fmt.Errorf("the cell is missing (%d in the column); the raw space needs every cell: fill them in, --ignore the column, or use the encoded space", n)}
 		}
 		mean, sd := stat.MeanStdDev(col.Numbers, nil)
 		if math.IsInf(sd, 0) || math.IsNaN(sd) {
-			return fit.Patterns{}, nil, &ingest.DataError{File: d.Table.Name, Name: col.Name,
-				Err: fmt.Errorf("the values span more than a 64-bit float holds, which standardizing cannot scale; rescale the column, --ignore it, or use the encoded space")}
+			return fit.Patterns{}, nil, nil, &ingest.DataError{File: d.Table.Name, Column: position, Name: col.Name, Err: errors.New("the values span more than a 64-bit float holds, which standardizing cannot scale; rescale the column, --ignore it, or use the encoded space")}
 		}
-		if !(sd > 0) {
-			continue // constant: no direction to separate along
+		if !(sd > 0) { // no direction to separate along
+			reason := constant
+			if slices.Min(col.Numbers) != slices.Max(col.Numbers) {
+				reason = tinySpread
+			}
+			leftOut = append(leftOut, LeftOut{col.Name, reason})
+			continue
 		}
 		cols, names = append(cols, col), append(names, col.Name)
 		centers, scales = append(centers, mean), append(scales, sd)
 	}
 	if len(names) == 0 {
-		return fit.Patterns{}, nil, &ingest.DataError{File: d.Table.Name, Err: fmt.Errorf("no numeric feature column varies; the raw space has nothing to compare (use the encoded space)")}
+		return fit.Patterns{}, nil, nil, &ingest.DataError{File: d.Table.Name, Err: fmt.Errorf(
+			"no numeric feature column varies, so the raw space has nothing to compare (use the encoded space); left out: %s", LeftOutList(leftOut))}
 	}
 	rows := d.Table.Rows
 	values := make([]float64, 0, rows*len(cols))
@@ -195,5 +234,23 @@ func standardized(d *ingest.Dataset) (fit.Patterns, []string, error) {
 			values = append(values, (col.Numbers[r]-centers[j])/scales[j])
 		}
 	}
-	return fit.Patterns{Width: len(cols), Values: values}, names, nil
+	return fit.Patterns{Width: len(cols), Values: values}, names, leftOut, nil
+}
+
+// LeftOutList lists left-out columns with their reasons, "a (constant); b
+// (…)", grouping the columns that share a reason.
+func LeftOutList(leftOut []LeftOut) string {
+	var reasons []string
+	columns := map[string][]string{}
+	for _, l := range leftOut {
+		if columns[l.Reason] == nil {
+			reasons = append(reasons, l.Reason)
+		}
+		columns[l.Reason] = append(columns[l.Reason], l.Column)
+	}
+	items := make([]string, len(reasons))
+	for i, reason := range reasons {
+		items[i] = fmt.Sprintf("%s (%s)", strings.Join(columns[reason], ", "), reason)
+	}
+	return strings.Join(items, "; ")
 }

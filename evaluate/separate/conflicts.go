@@ -34,22 +34,14 @@ type ConflictGroup struct {
 // classes are the class indexes of the rows, into labels.
 func FindConflicts(p fit.Patterns, classes []int, labels []string, most int) Conflicts {
 	n := len(classes)
-	groups := map[string][]int{}
-	var order []string
-	for r := 0; r < n; r++ {
-		var k string
-		if p.Width > 0 {
-			k = patternKey(p.Row(r))
-		}
-		if _, seen := groups[k]; !seen {
-			order = append(order, k)
-		}
-		groups[k] = append(groups[k], r)
-	}
 	c := Conflicts{Groups: []ConflictGroup{}}
 	counts := make([]int, len(labels))
-	for _, k := range order {
-		rows := groups[k]
+	for _, rows := range groupRows(n, func(r int) string {
+		if p.Width == 0 {
+			return ""
+		}
+		return patternKey(p.Row(r))
+	}) {
 		clear(counts)
 		for _, r := range rows {
 			counts[classes[r]]++
@@ -73,4 +65,22 @@ func FindConflicts(p fit.Patterns, classes []int, labels []string, most int) Con
 		c.ErrorFloor = float64(c.MinErrors) / float64(n)
 	}
 	return c
+}
+
+// groupRows groups the rows 0..n-1 by key, in order of each group's first
+// row, each group's rows ascending.
+func groupRows(n int, key func(row int) string) [][]int {
+	index := map[string]int{}
+	var groups [][]int
+	for r := 0; r < n; r++ {
+		k := key(r)
+		g, seen := index[k]
+		if !seen {
+			g = len(groups)
+			index[k] = g
+			groups = append(groups, nil)
+		}
+		groups[g] = append(groups[g], r)
+	}
+	return groups
 }

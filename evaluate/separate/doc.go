@@ -16,12 +16,17 @@
 // splits it is solved on a growing working set: a certificate found on a
 // subset holds for the whole split, and a hyperplane found on a subset is
 // tried on every row, the rows it misplaces joining the set until none is.
+// Its time grows about as D⁴, so above MaxInputs inputs it is not solved:
+// the verdict is TooManyInputs, unless a pattern found on both sides
+// proves the split not separable at once.
 //
 // Check works on a whole ingest.Dataset: each class against the rest (and,
 // with Pairs, each pair of classes), in the encoded input space or in the
 // standardized raw numeric columns; it also finds conflicting rows (one
 // pattern, several classes) with the error floor they impose on any
-// classifier, and profiles the columns.
+// classifier, and profiles the columns, counting duplicate rows (same
+// features, same class). The raw space names the feature columns it leaves
+// out (not numeric, or not varying) and why.
 //
 // Invariants that always hold:
 //   - Every reported proof has been checked against the data by

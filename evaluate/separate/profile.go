@@ -1,8 +1,11 @@
 package separate
 
 import (
+	"fmt"
 	"math"
 	"slices"
+	"strconv"
+	"strings"
 
 	"deltafit/ingest"
 )
@@ -23,6 +26,15 @@ type Profile struct {
 	// Separators are single columns that split one class from all the
 	// others on their own: leakage suspects.
 	Separators []Separator `json:"single_column_separators"`
+	// DuplicateRows counts the rows that repeat an earlier row: the same
+	// value in every feature column (missing matching missing) and the same
+	// class. Cross-validation can put copies of a row on both sides of a
+	// fold, which inflates its accuracy. Rows with the same features but
+	// different classes are conflicts, not duplicates.
+	DuplicateRows int `json:"duplicate_rows"`
+	// DuplicateGroups are the first groups of identical rows, in order of
+	// their first row: 1-based row numbers, ascending.
+	DuplicateGroups [][]int `json:"duplicate_groups"`
 }
 
 // ClassCount is the number of rows of a class.
@@ -48,9 +60,11 @@ type Separator struct {
 	How string `json:"how"`
 }
 
-// NewProfile profiles the target and the feature columns of d.
-func NewProfile(d *ingest.Dataset) Profile {
-	p := Profile{Rows: d.Table.Rows, Constant: []string{}, Missing: []ColumnCount{}, Cardinality: []ColumnCount{}, Separators: []Separator{}}
+// NewProfile profiles the target and the feature columns of d, listing at
+// most the first most groups of duplicate rows.
+func NewProfile(d *ingest.Dataset, most int) Profile {
+	p := Profile{Rows: d.Table.Rows, Constant: []string{}, Missing: []ColumnCount{}, Cardinality: []ColumnCount{}, Separators: []Separator{},
+		DuplicateGroups: [][]int{}}
 	counts := make([]int, len(d.Labels))
 	for _, c := range d.Classes {
 		counts[c]++
@@ -83,7 +97,36 @@ func NewProfile(d *ingest.Dataset) Profile {
 			}
 		}
 	}
+	for _, rows := range groupRows(d.Table.Rows, func(r int) string { return rowKey(d, r) }) {
+		if len(rows) == 1 {
+			continue
+		}
+		p.DuplicateRows += len(rows) - 1
+		if len(p.DuplicateGroups) < most {
+			numbers := make([]int, len(rows))
+			for i, r := range rows {
+				numbers[i] = r + 1
+			}
+			p.DuplicateGroups = append(p.DuplicateGroups, numbers)
+		}
+	}
 	return p
+}
+
+// rowKey is a map key equal for rows with the same class and the same
+// feature cells, missing matching missing.
+func rowKey(d *ingest.Dataset, r int) string {
+	var b strings.Builder
+	b.WriteString(strconv.Itoa(d.Classes[r]))
+	for _, col := range d.Features {
+		if col.IsMissing(r) {
+			b.WriteString("\x00m")
+			continue
+		}
+		v := col.Value(r)
+		fmt.Fprintf(&b, "\x00%d:%s", len(v), v) // the length keeps "a\x00" "b" apart from "a" "\x00b"
+	}
+	return b.String()
 }
 
 // separates reports how col splits class k from the other rows on its

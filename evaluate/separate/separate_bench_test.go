@@ -78,3 +78,31 @@ func BenchmarkCheck(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkSeparateWidth solves one split, the first class against the
+// rest, of continuous raw columns as the input dimension grows: the cost
+// behind MaxInputs.
+func BenchmarkSeparateWidth(b *testing.B) {
+	for _, rows := range []int{1000, 2000} {
+		for _, inputs := range []int{64, 128, 192, 256} {
+			d := benchDataset(rows, inputs, 1)
+			p, _, _, err := Coordinates(d, Raw, ingest.PlanOptions{})
+			if err != nil {
+				b.Fatal(err)
+			}
+			pos, neg := split(d.Classes, 0)
+			b.Run(fmt.Sprintf("rows=%d/inputs=%d", rows, inputs), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					res, err := Separate(p, pos, neg, Options{Seed: 1, MaxInputs: inputs})
+					if err != nil {
+						b.Fatal(err)
+					}
+					if res.Verdict == Undecided {
+						b.Fatal(res.Reason)
+					}
+				}
+			})
+		}
+	}
+}

@@ -1,11 +1,13 @@
 package separate
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 
 	"deltafit/fit"
@@ -307,7 +309,7 @@ func TestConflicts(t *testing.T) {
 
 func TestProfile(t *testing.T) {
 	d := readDataset(t, "iris.csv", "species")
-	p := NewProfile(d)
+	p := NewProfile(d, DefaultGroups)
 	// UCI iris.names: 150 instances, 50 in each of three classes.
 	if p.Rows != 150 || len(p.Classes) != 3 || p.Imbalance != 1 {
 		t.Errorf("rows %d, classes %+v, imbalance %v; want 150, 50 each, 1", p.Rows, p.Classes, p.Imbalance)
@@ -323,4 +325,149 @@ func TestProfile(t *testing.T) {
 	if !slices.Equal(p.Separators, want) {
 		t.Errorf("separators %+v, want %+v", p.Separators, want)
 	}
+}
+
+func TestInputCap(t *testing.T) {
+	// Worked by hand: the truth tables have 2 inputs in the raw space, over a
+	// cap of 1; the conflicts table's colour column becomes 4 one-hot units,
+	// and its rows 1 and 2 share a pattern across the classes.
+	conflicting := &ingest.Table{Name: "conflicts", Rows: 4, Columns: []*ingest.Column{
+		{Name: "colour", Kind: ingest.Categorical, Text: []string{"red", "red", "blue", "grey"}},
+		{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "b", "a", "b"}},
+	}}
+	shared, err := ingest.NewDataset(conflicting, "y", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name   string
+		d      *ingest.Dataset
+		space  Space
+		want   Verdict
+		reason []string // phrases the reason must hold
+	}{
+		{"xor raw over the cap", readDataset(t, "xor.csv", "y"), Raw, TooManyInputs, []string{"2 inputs", "cap of 1", "--ignore"}},
+		{"and raw over the cap", readDataset(t, "and.csv", "y"), Raw, TooManyInputs, []string{"2 inputs", "cap of 1", "--ignore"}},
+		{"encoded over the cap", readDataset(t, "or.csv", "y"), Encoded, TooManyInputs, []string{"inputs are over the cap of 1", "--numeric zscore", "thermometer:K", "--space raw"}},
+		{"shared pattern still proves", shared, Encoded, NotSeparable, nil},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			r, err := Check(tc.d, CheckOptions{Space: tc.space, Seed: 1, MaxInputs: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			s := r.Splits[0]
+			if s.Verdict != tc.want {
+				t.Fatalf("verdict %q (%s), want %q", s.Verdict, s.Reason, tc.want)
+			}
+			if tc.want == TooManyInputs && (s.Separable != nil || s.Certificate != nil || s.Witness != nil) {
+				t.Errorf("an unsolved split claims an answer: %+v", s)
+			}
+			for _, phrase := range tc.reason {
+				if !strings.Contains(s.Reason, phrase) {
+					t.Errorf("reason %q does not say %q", s.Reason, phrase)
+				}
+			}
+		})
+	}
+}
+
+// handTable builds a table of the given columns over rows; every column
+// holds the same number of values.
+func handTable(rows int, cols ...*ingest.Column) *ingest.Table {
+	return &ingest.Table{Name: "hand", Rows: rows, Columns: cols}
+}
+
+func TestRawSpaceLeftOut(t *testing.T) {
+	// Worked by hand: of the features only x is numeric and varies.
+	table := handTable(4,
+		&ingest.Column{Name: "colour", Kind: ingest.Categorical, Text: []string{"red", "red", "blue", "blue"}},
+		&ingest.Column{Name: "flag", Kind: ingest.Boolean, Numbers: []float64{1, 0, 1, 0}},
+		&ingest.Column{Name: "x", Kind: ingest.Numeric, Numbers: []float64{1, 2, 3, 4}},
+		&ingest.Column{Name: "k", Kind: ingest.Numeric, Numbers: []float64{5, 5, 5, 5}},
+		&ingest.Column{Name: "tiny", Kind: ingest.Numeric, Numbers: []float64{1e-320, 2e-320, 1e-320, 2e-320}},
+		&ingest.Column{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "a", "b", "b"}},
+	)
+	d, err := ingest.NewDataset(table, "y", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := Check(d, CheckOptions{Space: Raw})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []LeftOut{{"colour", "categorical"}, {"flag", "boolean"}, {"k", constant}, {"tiny", tinySpread}}
+	if !slices.Equal(r.LeftOut, want) || !slices.Equal(r.Inputs, []string{"x"}) {
+		t.Errorf("inputs %v, left out %+v; want [x], %+v", r.Inputs, r.LeftOut, want)
+	}
+
+	t.Run("nothing varies names the columns", func(t *testing.T) {
+		d, err := ingest.NewDataset(table, "y", []string{"x"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, err = Check(d, CheckOptions{Space: Raw})
+		if err == nil {
+			t.Fatal("no error")
+		}
+		for _, phrase := range []string{"no numeric feature column varies", "k (constant)", "tiny (its spread", "colour (categorical)"} {
+			if !strings.Contains(err.Error(), phrase) {
+				t.Errorf("error %q does not say %q", err, phrase)
+			}
+		}
+	})
+}
+
+func TestRawSpaceErrorPosition(t *testing.T) {
+	// Worked by hand: the column with the missing cell is the table's third.
+	missing := &ingest.Column{Name: "x", Kind: ingest.Numeric, Numbers: []float64{1, 0, 3, 4}, Missing: []bool{false, true, false, false}}
+	table := handTable(4,
+		&ingest.Column{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "a", "b", "b"}},
+		&ingest.Column{Name: "w", Kind: ingest.Numeric, Numbers: []float64{1, 2, 3, 4}},
+		missing,
+	)
+	d, err := ingest.NewDataset(table, "y", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = Check(d, CheckOptions{Space: Raw})
+	var de *ingest.DataError
+	if !errors.As(err, &de) || de.Row != 2 || de.Column != 3 || de.Name != "x" {
+		t.Fatalf("error %v, want a DataError at row 2, column 3 (x)", err)
+	}
+}
+
+func TestDuplicateRows(t *testing.T) {
+	t.Run("hand-made", func(t *testing.T) {
+		// Worked by hand: rows 1, 3, 5 are one row three times and rows 4, 6
+		// one row twice (3 repeats); rows 2 and 7 have row 1's features but
+		// another class, a conflict, not a duplicate; row 8 matches row 4
+		// except for a missing cell, which only matches a missing one.
+		table := handTable(8,
+			&ingest.Column{Name: "x", Kind: ingest.Numeric, Numbers: []float64{1, 1, 1, 3, 1, 3, 1, 0}, Missing: []bool{false, false, false, false, false, false, false, true}},
+			&ingest.Column{Name: "c", Kind: ingest.Categorical, Text: []string{"red", "red", "red", "blue", "red", "blue", "red", "blue"}},
+			&ingest.Column{Name: "y", Kind: ingest.Categorical, Text: []string{"p", "q", "p", "q", "p", "q", "q", "q"}},
+		)
+		d, err := ingest.NewDataset(table, "y", nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := NewProfile(d, DefaultGroups)
+		// Rows 2 and 7 are also copies of each other (both q): 4 repeats.
+		want := [][]int{{1, 3, 5}, {2, 7}, {4, 6}}
+		if p.DuplicateRows != 4 || !slices.EqualFunc(p.DuplicateGroups, want, slices.Equal) {
+			t.Errorf("duplicates %d in %v, want 4 in %v", p.DuplicateRows, p.DuplicateGroups, want)
+		}
+		if p := NewProfile(d, 1); p.DuplicateRows != 4 || len(p.DuplicateGroups) != 1 {
+			t.Errorf("with one group listed: %d in %v, want 4 in one group", p.DuplicateRows, p.DuplicateGroups)
+		}
+	})
+	t.Run("iris", func(t *testing.T) {
+		// Fisher 1936 data (from memory): rows 102 and 143, both virginica
+		// 5.8, 2.7, 5.1, 1.9, are the one repeated row.
+		p := NewProfile(readDataset(t, "iris.csv", "species"), DefaultGroups)
+		if p.DuplicateRows != 1 || !slices.EqualFunc(p.DuplicateGroups, [][]int{{102, 143}}, slices.Equal) {
+			t.Errorf("duplicates %d in %v, want 1 in [[102 143]]", p.DuplicateRows, p.DuplicateGroups)
+		}
+	})
 }
