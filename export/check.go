@@ -24,26 +24,7 @@ const witnessWeightsShown = 20
 
 // WriteCheckReport writes r in the given format.
 func WriteCheckReport(w io.Writer, format Format, r *CheckReport) error {
-	if format == JSON {
-		return WriteJSON(w, r)
-	}
-	// The frame of writeReport, with a data line that says how the
-	// features became coordinates in either space.
-	p := &printer{w: w, markdown: format == Markdown}
-	p.heading("deltafit check")
-	p.checkData(r)
-	p.checkBody(r)
-	return p.err
-}
-
-func (p *printer) checkData(r *CheckReport) {
-	d := r.Data
-	if r.Space == separate.Raw {
-		p.line("data: %s, %s, %s, not encoded (raw space)", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"))
-	} else {
-		p.line("data: %s, %s, %s encoded as %s", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"), count(len(r.Inputs), "input unit"))
-	}
-	p.line("target: %s, %d classes (%s)", d.Target, len(d.Labels), classList(d.Labels, d.ClassCounts))
+	return writeReport(w, format, r, "deltafit check", r.Data, func(p *printer) { p.checkBody(r) })
 }
 
 // classList lists each label with its count: "a 2, b 1".

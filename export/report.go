@@ -33,11 +33,13 @@ func ParseFormat(s string) (Format, error) {
 
 // DataSummary describes the data a report is about.
 type DataSummary struct {
-	Source      string   `json:"source"`
-	SHA256      string   `json:"sha256"`
-	Rows        int      `json:"rows"`
-	Features    int      `json:"features"` // feature columns
-	Inputs      int      `json:"inputs"`   // encoded input units
+	Source   string `json:"source"`
+	SHA256   string `json:"sha256"`
+	Rows     int    `json:"rows"`
+	Features int    `json:"features"` // feature columns
+	Inputs   int    `json:"inputs"`   // encoded input units (coordinates, in check's raw space)
+	// Raw marks check's raw space, where the features are not encoded.
+	Raw         bool     `json:"raw,omitempty"`
 	Target      string   `json:"target"`
 	Labels      []string `json:"labels"`
 	ClassCounts []int    `json:"class_counts"`
@@ -287,15 +289,12 @@ func (p *printer) subheading(title string) {
 }
 
 func (p *printer) data(d DataSummary) {
-	p.line("data: %s, %s, %s encoded as %s", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"), count(d.Inputs, "input unit"))
-	classes := ""
-	for i, l := range d.Labels {
-		if i > 0 {
-			classes += ", "
-		}
-		classes += fmt.Sprintf("%s %d", l, d.ClassCounts[i])
+	encoding := " encoded as " + count(d.Inputs, "input unit")
+	if d.Raw {
+		encoding = ", not encoded (raw space)"
 	}
-	p.line("target: %s, %d classes (%s)", d.Target, len(d.Labels), classes)
+	p.line("data: %s, %s, %s%s", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"), encoding)
+	p.line("target: %s, %d classes (%s)", d.Target, len(d.Labels), classList(d.Labels, d.ClassCounts))
 }
 
 func (p *printer) cv(r *CVReport) {

@@ -99,7 +99,7 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 		return err
 	}
 	data := dataSummary(d, &ingest.Plan{}, sha)
-	data.Inputs = len(report.Inputs)
+	data.Inputs, data.Raw = len(report.Inputs), space == separate.Raw
 	if err := export.WriteCheckReport(stdout, format, &export.CheckReport{Data: data, Report: report}); err != nil {
 		return err
 	}
