@@ -137,73 +137,52 @@ func (b *columnBuilder) setStorage(numeric, boolean bool) *DataError {
 }
 
 func (b *columnBuilder) append(arr arrow.Array, rowBase int) *DataError {
-	n := arr.Len()
-	for i := 0; i < n; i++ {
-		b.missing = append(b.missing, arr.IsNull(i))
+	text, isText := textGetter(arr)
+	number, isNumber := numberGetter(arr)
+	_, isBool := arr.(*array.Boolean)
+	if !isText && !isNumber {
+		return b.fail(0, fmt.Errorf("%w: Arrow type %s; convert the column to numbers, text or booleans", ErrUnsupported, arr.DataType()))
 	}
-	switch a := arr.(type) {
-	case *array.String:
-		if err := b.setStorage(false, false); err != nil {
-			return err
-		}
-		for i := 0; i < n; i++ {
-			if err := b.appendText(a.Value(i), rowBase+i+1); err != nil {
-				return err
-			}
-		}
-	case *array.LargeString:
-		if err := b.setStorage(false, false); err != nil {
-			return err
-		}
-		for i := 0; i < n; i++ {
-			if err := b.appendText(a.Value(i), rowBase+i+1); err != nil {
-				return err
-			}
-		}
-	case *array.Dictionary:
-		if err := b.setStorage(false, false); err != nil {
-			return err
-		}
-		for i := 0; i < n; i++ {
+	if err := b.setStorage(isNumber && !isBool, isBool); err != nil {
+		return err
+	}
+	for i := range arr.Len() {
+		row, missing := rowBase+i+1, arr.IsNull(i)
+		b.missing = append(b.missing, missing)
+		if isText {
 			v := ""
-			if !a.IsNull(i) {
-				v = a.ValueStr(i)
+			if !missing {
+				v = text(i)
 			}
-			if err := b.appendText(v, rowBase+i+1); err != nil {
+			if err := b.appendText(v, row); err != nil {
 				return err
 			}
+			continue
 		}
-	case *array.Boolean:
-		if err := b.setStorage(false, true); err != nil {
-			return err
-		}
-		for i := 0; i < n; i++ {
-			v := 0.0
-			if !a.IsNull(i) && a.Value(i) {
-				v = 1
+		v := 0.0
+		if !missing {
+			v = number(i)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return b.fail(row, fmt.Errorf("%v is not a finite number; store a null for a missing value", v))
 			}
-			b.numbers = append(b.numbers, v)
 		}
-	default:
-		get, ok := numberGetter(arr)
-		if !ok {
-			return b.fail(0, fmt.Errorf("%w: Arrow type %s; convert the column to numbers, text or booleans", ErrUnsupported, arr.DataType()))
-		}
-		if err := b.setStorage(true, false); err != nil {
-			return err
-		}
-		for i := 0; i < n; i++ {
-			v := 0.0
-			if !arr.IsNull(i) {
-				v = get(i)
-				if math.IsNaN(v) || math.IsInf(v, 0) {
-					return b.fail(rowBase+i+1, fmt.Errorf("%v is not a finite number; store a null for a missing value", v))
-				}
-			}
-			b.numbers = append(b.numbers, v)
-		}
+		b.numbers = append(b.numbers, v)
 	}
 	return nil
+}
+
+// textGetter reads the cells of a text column: strings, large strings or
+// a dictionary of them.
+func textGetter(arr arrow.Array) (func(int) string, bool) {
+	switch a := arr.(type) {
+	case *array.String:
+		return a.Value, true
+	case *array.LargeString:
+		return a.Value, true
+	case *array.Dictionary:
+		return a.ValueStr, true
+	}
+	return nil, false
 }
 
 func (b *columnBuilder) appendText(v string, row int) *DataError {
@@ -217,8 +196,17 @@ func (b *columnBuilder) appendText(v string, row int) *DataError {
 	return nil
 }
 
+// numberGetter reads the cells of a numeric or boolean column as float64
+// (booleans as 0 and 1).
 func numberGetter(arr arrow.Array) (func(int) float64, bool) {
 	switch a := arr.(type) {
+	case *array.Boolean:
+		return func(i int) float64 {
+			if a.Value(i) {
+				return 1
+			}
+			return 0
+		}, true
 	case *array.Float64:
 		return a.Value, true
 	case *array.Float32:
