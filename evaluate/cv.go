@@ -8,30 +8,31 @@ import (
 	"sync"
 
 	"deltafit/fit"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // Learner fits an encoding plan and a network together on training rows.
 // The plan sees only those rows, so cross-validation never leaks the
 // held-out fold into the encoding.
 type Learner struct {
-	Plan ingest.PlanOptions
+	Plan encode.Options
 	Fit  fit.Options
 }
 
 // Fitted is a plan and the network trained on its patterns.
 type Fitted struct {
-	Plan   *ingest.Plan
+	Plan   *encode.Plan
 	Result *fit.Result
 }
 
 // Train fits the plan on rows of d (0-based; nil means all) and trains the
 // network on the encoded rows.
-func (l Learner) Train(d *ingest.Dataset, rows []int) (*Fitted, error) {
+func (l Learner) Train(d *tabular.Dataset, rows []int) (*Fitted, error) {
 	if rows == nil {
 		rows = allRows(d.Table.Rows)
 	}
-	plan, err := ingest.FitPlan(d.Features, rows, l.Plan)
+	plan, err := encode.FitPlan(d.Features, rows, l.Plan)
 	if err != nil {
 		return nil, err
 	}
@@ -45,7 +46,7 @@ func (l Learner) Train(d *ingest.Dataset, rows []int) (*Fitted, error) {
 
 // Predict classifies rows of cols (the plan's columns, from Plan.Bind or
 // the dataset's features).
-func (f *Fitted) Predict(cols []*ingest.Column, rows []int) ([]int, ingest.EncodeStats) {
+func (f *Fitted) Predict(cols []*tabular.Column, rows []int) ([]int, encode.Stats) {
 	width := f.Plan.Width()
 	values, stats := f.Plan.EncodeTo(nil, cols, rows)
 	predicted := make([]int, len(rows))
@@ -56,7 +57,7 @@ func (f *Fitted) Predict(cols []*ingest.Column, rows []int) ([]int, ingest.Encod
 }
 
 // classesOf returns the classes of the given rows of d.
-func classesOf(d *ingest.Dataset, rows []int) []int {
+func classesOf(d *tabular.Dataset, rows []int) []int {
 	classes := make([]int, len(rows))
 	for i, r := range rows {
 		classes[i] = d.Classes[r]
@@ -79,7 +80,7 @@ type Method struct {
 }
 
 // LearnerMethod cross-validates a Learner, whatever rule l.Fit names.
-func LearnerMethod(name string, l Learner, d *ingest.Dataset) Method {
+func LearnerMethod(name string, l Learner, d *tabular.Dataset) Method {
 	return Method{Name: name, Predict: func(train, test []int) ([]int, error) {
 		fitted, err := l.Train(d, train)
 		if err != nil {
@@ -92,7 +93,7 @@ func LearnerMethod(name string, l Learner, d *ingest.Dataset) Method {
 
 // MajorityMethod predicts the most frequent class of the training rows for
 // every test row.
-func MajorityMethod(d *ingest.Dataset) Method {
+func MajorityMethod(d *tabular.Dataset) Method {
 	return Method{Name: "majority", Predict: func(train, test []int) ([]int, error) {
 		majority := Majority(classesOf(d, train), len(d.Labels))
 		predicted := make([]int, len(test))
@@ -115,7 +116,7 @@ type CVResult struct {
 // fold, for each fold in turn, and pools the predictions. Folds run in
 // parallel on up to GOMAXPROCS goroutines, so m.Predict must be safe for
 // concurrent use; the result does not depend on the schedule.
-func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error) {
+func CrossValidate(d *tabular.Dataset, folds [][]int, m Method) (*CVResult, error) {
 	type outcome struct {
 		confusion *Confusion
 		err       error
@@ -167,7 +168,7 @@ func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error
 
 // Folds makes stratified folds of d, with FoldError rewritten to name the
 // class label.
-func Folds(d *ingest.Dataset, k int, seed uint64) ([][]int, error) {
+func Folds(d *tabular.Dataset, k int, seed uint64) ([][]int, error) {
 	folds, err := StratifiedFolds(d.Classes, len(d.Labels), k, seed)
 	var fe *FoldError
 	if errors.As(err, &fe) {

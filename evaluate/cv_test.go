@@ -9,11 +9,12 @@ import (
 	"testing"
 
 	"deltafit/fit"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 	"deltafit/internal/refdata"
 )
 
-func irisDataset(t *testing.T) *ingest.Dataset {
+func irisDataset(t *testing.T) *tabular.Dataset {
 	t.Helper()
 	d, err := refdata.Iris()
 	if err != nil {
@@ -24,7 +25,7 @@ func irisDataset(t *testing.T) *ingest.Dataset {
 
 // withHeldOutScrambled returns a copy of d whose rows in fold are replaced
 // by extreme values, leaving every other row as it was.
-func withHeldOutScrambled(d *ingest.Dataset, fold []int) *ingest.Dataset {
+func withHeldOutScrambled(d *tabular.Dataset, fold []int) *tabular.Dataset {
 	scrambled := *d
 	scrambled.Features = nil
 	for _, c := range d.Features {
@@ -49,11 +50,11 @@ func TestTrainingFoldDoesNotSeeHeldOutRows(t *testing.T) {
 	}
 	for _, numeric := range []string{"thermometer:8", "onehot:4", "threshold", "zscore", "minmax"} {
 		t.Run(numeric, func(t *testing.T) {
-			enc, err := ingest.ParseNumericEncoding(numeric)
+			enc, err := encode.ParseNumericEncoding(numeric)
 			if err != nil {
 				t.Fatal(err)
 			}
-			l := Learner{Plan: ingest.PlanOptions{Numeric: enc}, Fit: fit.Options{Seed: 3, Epochs: 20}}
+			l := Learner{Plan: encode.Options{Numeric: enc}, Fit: fit.Options{Seed: 3, Epochs: 20}}
 			train := TrainRows(folds, 2)
 			clean, err := l.Train(d, train)
 			if err != nil {

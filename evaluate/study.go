@@ -5,7 +5,7 @@ import (
 	"fmt"
 
 	"deltafit/fit"
-	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 )
 
 // Study is a fit on all rows and, when folds are asked for, the
@@ -21,7 +21,7 @@ type Study struct {
 // RunStudy fits l on every row of d and, when folds > 0, cross-validates
 // it with stratified folds from seed beside the majority-class and Hebbian
 // baselines. Data errors name the dataset's file.
-func RunStudy(d *ingest.Dataset, l Learner, folds int, seed uint64) (*Study, error) {
+func RunStudy(d *tabular.Dataset, l Learner, folds int, seed uint64) (*Study, error) {
 	fitted, err := l.Train(d, nil)
 	if err != nil {
 		return nil, inFile(err, d.Table.Name)
@@ -32,7 +32,7 @@ func RunStudy(d *ingest.Dataset, l Learner, folds int, seed uint64) (*Study, err
 	}
 	split, err := Folds(d, folds, seed)
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", ingest.DisplayName(d.Table.Name), err)
+		return nil, fmt.Errorf("%s: %w", tabular.DisplayName(d.Table.Name), err)
 	}
 	for _, run := range []struct {
 		dst *(*CVResult)
@@ -66,7 +66,7 @@ func ruleName(o fit.Options) string {
 // inFile names the data file in a data error raised by code that works on
 // columns and does not know the file (the encoding plan's caps).
 func inFile(err error, name string) error {
-	var de *ingest.DataError
+	var de *tabular.DataError
 	if errors.As(err, &de) && de.File == "" {
 		de.File = name
 	}

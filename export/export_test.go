@@ -13,12 +13,13 @@ import (
 	"deltafit/evaluate"
 	"deltafit/fit"
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 	"deltafit/internal/refdata"
 )
 
 var update = flag.Bool("update", false, "rewrite the golden files in testdata/")
 
-func irisDataset(t *testing.T) *ingest.Dataset {
+func irisDataset(t *testing.T) *tabular.Dataset {
 	t.Helper()
 	d, err := refdata.Iris()
 	if err != nil {
@@ -27,7 +28,7 @@ func irisDataset(t *testing.T) *ingest.Dataset {
 	return d
 }
 
-func irisModel(t *testing.T) (*Model, *ingest.Dataset) {
+func irisModel(t *testing.T) (*Model, *tabular.Dataset) {
 	t.Helper()
 	d := irisDataset(t)
 	fitted, err := evaluate.Learner{Fit: fit.Options{Seed: 1}}.Train(d, nil)

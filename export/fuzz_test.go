@@ -8,7 +8,8 @@ import (
 	"testing"
 
 	"deltafit/export"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // FuzzReadModel feeds arbitrary bytes to ReadModel. Invariants: no panic;
@@ -39,7 +40,7 @@ func FuzzReadModel(f *testing.F) {
 		}
 		p, _, err := m.Predict(tableFor(m.Plan))
 		if err != nil {
-			var de *ingest.DataError
+			var de *tabular.DataError
 			if !errors.As(err, &de) {
 				t.Fatalf("predict error %q (%T) is not a *DataError", err, err)
 			}
@@ -60,18 +61,18 @@ func FuzzReadModel(f *testing.F) {
 
 // tableFor makes three rows for the columns a plan reads: low values,
 // high values and missing cells.
-func tableFor(p *ingest.Plan) *ingest.Table {
-	t := &ingest.Table{Name: "rows", Rows: 3}
+func tableFor(p *encode.Plan) *tabular.Table {
+	t := &tabular.Table{Name: "rows", Rows: 3}
 	for _, f := range p.Features {
-		c := &ingest.Column{Name: f.Column, Kind: f.Kind, Missing: []bool{false, false, true}}
-		if f.Kind == ingest.Categorical {
+		c := &tabular.Column{Name: f.Column, Kind: f.Kind, Missing: []bool{false, false, true}}
+		if f.Kind == tabular.Categorical {
 			c.Text = []string{"", "unseen", ""}
 			if len(f.Categories) > 0 {
 				c.Text[0] = f.Categories[0]
 			}
 		} else {
 			c.Numbers = []float64{-1e300, 1e300, 0}
-			if f.Kind == ingest.Boolean {
+			if f.Kind == tabular.Boolean {
 				c.Numbers = []float64{0, 1, 0}
 			}
 		}

@@ -10,7 +10,7 @@ import (
 	"slices"
 
 	"deltafit/fit"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
 )
 
 // Version is the tool's version, written into every model file.
@@ -30,7 +30,7 @@ type Model struct {
 	Tool     string       `json:"tool"`
 	Target   string       `json:"target"`
 	Labels   []string     `json:"labels"`
-	Plan     *ingest.Plan `json:"plan"`
+	Plan     *encode.Plan `json:"plan"`
 	Network  *fit.Network `json:"network"`
 	Options  Options      `json:"options"`
 	Training Training     `json:"training"`
@@ -107,7 +107,7 @@ var ErrModel = errors.New("not a usable deltafit model")
 // MaxModelBytes is rejected from its size without being read, and other
 // readers are read at most MaxModelBytes+1 bytes. Nothing is allocated from
 // the dimensions the file declares; they are checked against the arrays it
-// holds and the caps (ingest.MaxWidth, ingest.MaxCategories).
+// holds and the caps (encode.MaxWidth, encode.MaxCategories).
 func ReadModel(name string, r io.Reader) (*Model, error) {
 	if s, ok := r.(interface{ Stat() (fs.FileInfo, error) }); ok {
 		if fi, err := s.Stat(); err == nil && fi.Mode().IsRegular() && fi.Size() > MaxModelBytes {
@@ -189,7 +189,7 @@ func (m *Model) Validate() error {
 	if m.Network.Inputs != m.Plan.Width() {
 		return fmt.Errorf("its network has %d inputs but its plan makes %d", m.Network.Inputs, m.Plan.Width())
 	}
-	if m.Network.Inputs > ingest.MaxWidth || m.Network.Classes > ingest.MaxCategories {
+	if m.Network.Inputs > encode.MaxWidth || m.Network.Classes > encode.MaxCategories {
 		return errors.New("its network is larger than the caps")
 	}
 	return m.Network.Validate()

@@ -8,7 +8,8 @@ import (
 	"math"
 	"strconv"
 
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // Predictions are a model's classes and per-class scores for table rows.
@@ -20,17 +21,17 @@ type Predictions struct {
 
 // Predict encodes every row of t with the model's plan and scores it.
 // Warnings about values the plan was not fitted on are in the stats.
-func (m *Model) Predict(t *ingest.Table) (*Predictions, ingest.EncodeStats, error) {
+func (m *Model) Predict(t *tabular.Table) (*Predictions, encode.Stats, error) {
 	cols, err := m.Plan.Bind(t)
 	if err != nil {
-		return nil, ingest.EncodeStats{}, err
+		return nil, encode.Stats{}, err
 	}
 	width := m.Plan.Width()
 	p := &Predictions{Labels: m.Labels, Predicted: make([]int, t.Rows), Scores: make([][]float64, t.Rows)}
 	// Rows are encoded a block at a time, so that a plan of many units (up
-	// to ingest.MaxWidth) needs one block of patterns, not one per row.
+	// to encode.MaxWidth) needs one block of patterns, not one per row.
 	block := max(1, encodeBlockValues/max(1, width))
-	var stats ingest.EncodeStats
+	var stats encode.Stats
 	var values []float64
 	rows := make([]int, 0, min(block, t.Rows))
 	for lo := 0; lo < t.Rows; lo += block {
@@ -38,7 +39,7 @@ func (m *Model) Predict(t *ingest.Table) (*Predictions, ingest.EncodeStats, erro
 		for r := lo; r < min(lo+block, t.Rows); r++ {
 			rows = append(rows, r)
 		}
-		var blockStats ingest.EncodeStats
+		var blockStats encode.Stats
 		values, blockStats = m.Plan.EncodeTo(values, cols, rows)
 		stats.Merge(blockStats)
 		for n, r := range rows {
@@ -47,7 +48,7 @@ func (m *Model) Predict(t *ingest.Table) (*Predictions, ingest.EncodeStats, erro
 			p.Predicted[r] = m.Network.Classify(x)
 			for _, s := range p.Scores[r] {
 				if math.IsNaN(s) || math.IsInf(s, 0) {
-					return nil, stats, &ingest.DataError{File: t.Name, Row: r + 1,
+					return nil, stats, &tabular.DataError{File: t.Name, Row: r + 1,
 						Err: errors.New("the model's scores for the row are not finite; its inputs are far outside the range of the training data")}
 				}
 			}

@@ -11,12 +11,13 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
 	"deltafit/ingest"
+	"deltafit/internal/fixture"
 )
 
 // irisWithMetadata is the Iris record with schema and field metadata, so
 // that the flatbuffers hold every kind of vector the checks walk.
 func irisWithMetadata(t *testing.T) arrow.RecordBatch {
-	rec := tableRecord(t, memory.DefaultAllocator, readIris(t))
+	rec := tableRecord(t, memory.DefaultAllocator, fixture.ReadIris(t))
 	t.Cleanup(rec.Release)
 	fields := rec.Schema().Fields()
 	for i := range fields {

@@ -10,12 +10,14 @@ import (
 	"strings"
 	"unicode/utf8"
 
+	"deltafit/ingest/tabular"
+
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
 )
 
 // ReadTable reads a whole table from r: NewRecordReader followed by Collect.
-func ReadTable(name string, r io.Reader, opts ReadOptions) (*Table, error) {
+func ReadTable(name string, r io.Reader, opts ReadOptions) (*tabular.Table, error) {
 	rr, err := NewRecordReader(name, r, opts)
 	if err != nil {
 		return nil, err
@@ -24,27 +26,27 @@ func ReadTable(name string, r io.Reader, opts ReadOptions) (*Table, error) {
 	return Collect(name, rr, opts)
 }
 
-// Collect reads every batch of rr into a Table, inferring column kinds from
+// Collect reads every batch of rr into a tabular.Table, inferring column kinds from
 // the values (opts.Kinds overrides them). Text columns whose values all parse
 // as numbers are numeric; all true/false are boolean; the rest categorical.
 // A column that is mostly numbers with a stray word is an error naming the
 // cell, not a silent switch to categorical.
-func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *Table, err error) {
+func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *tabular.Table, err error) {
 	defer recoverMalformed(name, &err)
 	schema := rr.Schema()
 	builders := make([]*columnBuilder, schema.NumFields())
 	seen := make(map[string]int, len(builders))
 	for i, f := range schema.Fields() {
 		if f.Name == "" {
-			return nil, &DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column has no name; give every column a name in the header")}
+			return nil, &tabular.DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column has no name; give every column a name in the header")}
 		}
 		if !utf8.ValidString(f.Name) {
 			// A model file stores names as JSON, which would replace the
 			// bad bytes, and the name would no longer match this column.
-			return nil, &DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column name is not valid UTF-8 text; re-save the file as UTF-8")}
+			return nil, &tabular.DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column name is not valid UTF-8 text; re-save the file as UTF-8")}
 		}
 		if j, dup := seen[f.Name]; dup {
-			return nil, &DataError{File: name, Line: 1, Column: i + 1, Name: f.Name,
+			return nil, &tabular.DataError{File: name, Line: 1, Column: i + 1, Name: f.Name,
 				Err: fmt.Errorf("the column name is also used by column %d; column names must be unique", j+1)}
 		}
 		seen[f.Name] = i
@@ -52,7 +54,7 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *Table, er
 	}
 	for col := range opts.Kinds {
 		if _, ok := seen[col]; !ok {
-			return nil, &DataError{File: name, Name: col, Err: fmt.Errorf("a kind is given for this column but the input has %w", ErrNoColumn)}
+			return nil, &tabular.DataError{File: name, Name: col, Err: fmt.Errorf("a kind is given for this column but the input has %w", ErrNoColumn)}
 		}
 	}
 	rows := 0
@@ -70,9 +72,9 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *Table, er
 		return nil, readError(name, rows, err)
 	}
 	if rows == 0 {
-		return nil, &DataError{File: name, Err: ErrNoRows}
+		return nil, &tabular.DataError{File: name, Err: ErrNoRows}
 	}
-	t := &Table{Name: name, Rows: rows, Columns: make([]*Column, len(builders))}
+	t := &tabular.Table{Name: name, Rows: rows, Columns: make([]*tabular.Column, len(builders))}
 	for i, b := range builders {
 		reason := "declared"
 		kind, declared := opts.Kinds[b.name]
@@ -91,8 +93,8 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *Table, er
 }
 
 // readError places a reader's error at the row that follows the last one read.
-func readError(name string, rows int, err error) *DataError {
-	de := &DataError{File: name, Row: rows + 1, Err: err}
+func readError(name string, rows int, err error) *tabular.DataError {
+	de := &tabular.DataError{File: name, Row: rows + 1, Err: err}
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
 		de.Line = pe.Line
@@ -124,11 +126,11 @@ type columnBuilder struct {
 	any     bool // a cell has been appended, fixing the storage type
 }
 
-func (b *columnBuilder) fail(row int, err error) *DataError {
-	return &DataError{Row: row, Column: b.index, Name: b.name, Err: err}
+func (b *columnBuilder) fail(row int, err error) *tabular.DataError {
+	return &tabular.DataError{Row: row, Column: b.index, Name: b.name, Err: err}
 }
 
-func (b *columnBuilder) setStorage(numeric, boolean bool) *DataError {
+func (b *columnBuilder) setStorage(numeric, boolean bool) *tabular.DataError {
 	if b.any && (b.numeric != numeric || b.boolean != boolean) {
 		return b.fail(0, errors.New("the column changes type between record batches"))
 	}
@@ -136,7 +138,7 @@ func (b *columnBuilder) setStorage(numeric, boolean bool) *DataError {
 	return nil
 }
 
-func (b *columnBuilder) append(arr arrow.Array, rowBase int) *DataError {
+func (b *columnBuilder) append(arr arrow.Array, rowBase int) *tabular.DataError {
 	text, isText := textGetter(arr)
 	number, isNumber := numberGetter(arr)
 	_, isBool := arr.(*array.Boolean)
@@ -185,7 +187,7 @@ func textGetter(arr arrow.Array) (func(int) string, bool) {
 	return nil, false
 }
 
-func (b *columnBuilder) appendText(v string, row int) *DataError {
+func (b *columnBuilder) appendText(v string, row int) *tabular.DataError {
 	if len(v) > MaxCellBytes {
 		return b.fail(row, fmt.Errorf("the cell holds %d bytes, over the cap of %d; is a quote left open, or should the column be left out?", len(v), MaxCellBytes))
 	}
@@ -242,29 +244,29 @@ func widen32(v float32) float64 {
 	return x
 }
 
-// finish turns the gathered cells into a Column of the declared or inferred
+// finish turns the gathered cells into a tabular.Column of the declared or inferred
 // kind; reason says why a declared kind applies, for messages ("declared").
-func (b *columnBuilder) finish(kind Kind, declared bool, reason string) (*Column, *DataError) {
-	col := &Column{Name: b.name}
+func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) (*tabular.Column, *tabular.DataError) {
+	col := &tabular.Column{Name: b.name}
 	if anyTrue(b.missing) {
 		col.Missing = b.missing
 	}
 	switch {
 	case b.numeric || b.boolean:
-		col.Kind = Numeric
+		col.Kind = tabular.Numeric
 		if b.boolean {
-			col.Kind = Boolean
+			col.Kind = tabular.Boolean
 		}
 		col.Numbers = b.numbers
 		if declared && kind != col.Kind {
-			if kind != Categorical {
+			if kind != tabular.Categorical {
 				return nil, b.fail(0, fmt.Errorf("a %s Arrow column cannot be read as %s (%s %s)", col.Kind, kind, reason, kind))
 			}
 			col.Text = make([]string, len(b.numbers))
 			for i := range b.numbers {
 				col.Text[i] = col.Value(i)
 			}
-			col.Kind, col.Numbers = Categorical, nil
+			col.Kind, col.Numbers = tabular.Categorical, nil
 		}
 		return col, nil
 	}
@@ -273,10 +275,10 @@ func (b *columnBuilder) finish(kind Kind, declared bool, reason string) (*Column
 	}
 	col.Kind = kind
 	switch kind {
-	case Categorical:
+	case tabular.Categorical:
 		col.Text = b.text
 		return col, nil
-	case Boolean:
+	case tabular.Boolean:
 		col.Numbers = make([]float64, len(b.text))
 		for i, v := range b.text {
 			if col.IsMissing(i) {
@@ -315,7 +317,7 @@ func (b *columnBuilder) finish(kind Kind, declared bool, reason string) (*Column
 
 // inferKind looks at every present value. A column that is mostly numbers
 // is inferred numeric so that a stray word is reported rather than hidden.
-func (b *columnBuilder) inferKind() Kind {
+func (b *columnBuilder) inferKind() tabular.Kind {
 	present, bools := 0, 0
 	for i, v := range b.text {
 		if b.missing[i] {
@@ -328,13 +330,13 @@ func (b *columnBuilder) inferKind() Kind {
 	}
 	switch {
 	case present == 0:
-		return Categorical
+		return tabular.Categorical
 	case bools == present:
-		return Boolean
+		return tabular.Boolean
 	case 2*b.numberCount() > present:
-		return Numeric
+		return tabular.Numeric
 	}
-	return Categorical
+	return tabular.Categorical
 }
 
 // numberCount counts present cells that read as numbers, finite or not.

@@ -9,44 +9,15 @@ import (
 	"testing"
 
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
+	"deltafit/internal/fixture"
 )
-
-// irisCells splits testdata/iris.csv into cells; cells[0] is the header and
-// cells[r] data row r. The file has no quoted fields, so a plain split is
-// exact.
-func irisCells(t testing.TB) [][]string {
-	t.Helper()
-	lines := strings.Split(strings.TrimRight(string(irisBytes(t)), "\n"), "\n")
-	cells := make([][]string, len(lines))
-	for i, line := range lines {
-		cells[i] = strings.Split(line, ",")
-	}
-	return cells
-}
-
-// joinCells writes cells as delimited text, each record ended by eol.
-func joinCells(cells [][]string, delim, eol string) string {
-	var b strings.Builder
-	for _, row := range cells {
-		b.WriteString(strings.Join(row, delim))
-		b.WriteString(eol)
-	}
-	return b.String()
-}
-
-// editIris returns testdata/iris.csv as text after edit has changed its cells.
-func editIris(t testing.TB, edit func(cells [][]string)) string {
-	t.Helper()
-	cells := irisCells(t)
-	edit(cells)
-	return joinCells(cells, ",", "\n")
-}
 
 // TestReadCSVLayouts reads Iris written in other valid layouts to the same
 // table as testdata/iris.csv.
 func TestReadCSVLayouts(t *testing.T) {
-	want := readIris(t)
-	cells := irisCells(t)
+	want := fixture.ReadIris(t)
+	cells := fixture.IrisCells()
 	quoted := make([][]string, len(cells))
 	for r, row := range cells {
 		quoted[r] = make([]string, len(row))
@@ -59,18 +30,18 @@ func TestReadCSVLayouts(t *testing.T) {
 		text string
 		opts ingest.ReadOptions
 	}{
-		{"semicolon delimiter", joinCells(cells, ";", "\n"), ingest.ReadOptions{Delimiter: ';'}},
-		{"tab delimiter", joinCells(cells, "\t", "\n"), ingest.ReadOptions{Delimiter: '\t'}},
-		{"CRLF line ends", joinCells(cells, ",", "\r\n"), ingest.ReadOptions{}},                            // RFC 4180 §2.1: records end with CRLF
-		{"every field quoted", joinCells(quoted, ",", "\r\n"), ingest.ReadOptions{}},                       // RFC 4180 §2.5
-		{"no final line end", strings.TrimSuffix(joinCells(cells, ",", "\n"), "\n"), ingest.ReadOptions{}}, // RFC 4180 §2.2
-		{"UTF-8 byte order mark", "\xef\xbb\xbf" + joinCells(cells, ",", "\n"), ingest.ReadOptions{}},      // Unicode 15.0 §23.8: U+FEFF at the start is a signature, not content
-		{"byte order mark, CSV format given", "\xef\xbb\xbf" + joinCells(cells, ",", "\r\n"), ingest.ReadOptions{Format: ingest.FormatCSV}},
-		{"blank lines between records", strings.ReplaceAll(joinCells(cells, ",", "\n"), "setosa\n", "setosa\n\n"), ingest.ReadOptions{}}, // encoding/csv skips empty lines
+		{"semicolon delimiter", fixture.JoinCells(cells, ";", "\n"), ingest.ReadOptions{Delimiter: ';'}},
+		{"tab delimiter", fixture.JoinCells(cells, "\t", "\n"), ingest.ReadOptions{Delimiter: '\t'}},
+		{"CRLF line ends", fixture.JoinCells(cells, ",", "\r\n"), ingest.ReadOptions{}},                            // RFC 4180 §2.1: records end with CRLF
+		{"every field quoted", fixture.JoinCells(quoted, ",", "\r\n"), ingest.ReadOptions{}},                       // RFC 4180 §2.5
+		{"no final line end", strings.TrimSuffix(fixture.JoinCells(cells, ",", "\n"), "\n"), ingest.ReadOptions{}}, // RFC 4180 §2.2
+		{"UTF-8 byte order mark", "\xef\xbb\xbf" + fixture.JoinCells(cells, ",", "\n"), ingest.ReadOptions{}},      // Unicode 15.0 §23.8: U+FEFF at the start is a signature, not content
+		{"byte order mark, CSV format given", "\xef\xbb\xbf" + fixture.JoinCells(cells, ",", "\r\n"), ingest.ReadOptions{Format: ingest.FormatCSV}},
+		{"blank lines between records", strings.ReplaceAll(fixture.JoinCells(cells, ",", "\n"), "setosa\n", "setosa\n\n"), ingest.ReadOptions{}}, // encoding/csv skips empty lines
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			requireTablesEqual(t, want, readCSVText(t, "iris.csv", tt.text, tt.opts))
+			requireTablesEqual(t, want, fixture.ReadCSVText(t, "iris.csv", tt.text, tt.opts))
 		})
 	}
 }
@@ -79,7 +50,7 @@ func TestReadCSVLayouts(t *testing.T) {
 // break and doubled quotes (RFC 4180 §2.6, §2.7); row numbers count records,
 // not lines.
 func TestReadCSVQuotedFields(t *testing.T) {
-	text := editIris(t, func(cells [][]string) {
+	text := fixture.EditIris(func(cells [][]string) {
 		cells[0][4] = `"species, ""Iris""` + "\n" + `name"`
 		for r := 1; r < len(cells); r++ {
 			cells[r][4] = `"Iris,` + "\n" + cells[r][4] + `"`
@@ -87,22 +58,22 @@ func TestReadCSVQuotedFields(t *testing.T) {
 		cells[100][2] = "abc" // a stray word below 99 two-line records
 	})
 	_, err := ingest.ReadTable("iris.csv", strings.NewReader(text), ingest.ReadOptions{})
-	if de := asDataError(t, err); de.Row != 100 || de.Column != 3 {
+	if de := fixture.AsDataError(t, err); de.Row != 100 || de.Column != 3 {
 		t.Errorf("error at row %d, column %d, want row 100, column 3: %v", de.Row, de.Column, err)
 	}
 
-	text = editIris(t, func(cells [][]string) {
+	text = fixture.EditIris(func(cells [][]string) {
 		cells[0][4] = `"species, ""Iris""` + "\n" + `name"`
 		for r := 1; r < len(cells); r++ {
 			cells[r][4] = `"Iris,` + "\r\n" + cells[r][4] + `"`
 		}
 	})
-	tab := readCSVText(t, "iris.csv", text, ingest.ReadOptions{})
+	tab := fixture.ReadCSVText(t, "iris.csv", text, ingest.ReadOptions{})
 	species := tab.Columns[4]
 	if want := "species, \"Iris\"\nname"; species.Name != want {
 		t.Errorf("header name = %q, want %q", species.Name, want)
 	}
-	iris := readIris(t).Column("species")
+	iris := fixture.ReadIris(t).Column("species")
 	for r := range tab.Rows {
 		// encoding/csv: a quoted CRLF reads as a single \n
 		if want := "Iris,\n" + iris.Text[r]; species.Text[r] != want {
@@ -114,10 +85,10 @@ func TestReadCSVQuotedFields(t *testing.T) {
 // TestReadCSVMissingCells: empty cells and NA are missing; the values of
 // other cells are unchanged.
 func TestReadCSVMissingCells(t *testing.T) {
-	iris := readIris(t)
-	tab := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
+	iris := fixture.ReadIris(t)
+	tab := fixture.ReadCSVText(t, "iris.csv", fixture.IrisWithGaps(), ingest.ReadOptions{})
 	width := tab.Column("sepal_width")
-	if width.Kind != ingest.Numeric {
+	if width.Kind != tabular.Numeric {
 		t.Fatalf("sepal_width is %v, want numeric", width.Kind)
 	}
 	if n := width.MissingCount(); n != 15 { // every 10th of 150 rows
@@ -133,7 +104,7 @@ func TestReadCSVMissingCells(t *testing.T) {
 		}
 	}
 	species := tab.Column("species")
-	if species.Kind != ingest.Categorical || !species.IsMissing(4) || species.MissingCount() != 1 || species.Value(4) != "" {
+	if species.Kind != tabular.Categorical || !species.IsMissing(4) || species.MissingCount() != 1 || species.Value(4) != "" {
 		t.Errorf("species: kind %v, row 5 missing %v, %d missing; want categorical with only row 5 missing",
 			species.Kind, species.IsMissing(4), species.MissingCount())
 	}
@@ -150,27 +121,27 @@ func TestReadCSVKinds(t *testing.T) {
 	tests := []struct {
 		name   string
 		text   string
-		kinds  map[string]ingest.Kind
+		kinds  map[string]tabular.Kind
 		column string
-		want   ingest.Kind
+		want   tabular.Kind
 		value  string // Value of row 2
 	}{
-		{"measurements are numeric", string(irisBytes(t)), nil, "petal_length", ingest.Numeric, "1.4"},
-		{"species is categorical", string(irisBytes(t)), nil, "species", ingest.Categorical, "setosa"},
-		{"0/1 is numeric", xorBool, nil, "x2", ingest.Numeric, "1"},
-		{"true/false in any case is boolean", xorBool, nil, "y", ingest.Boolean, "true"},
-		{"numbers declared categorical", string(irisBytes(t)), map[string]ingest.Kind{"petal_length": ingest.Categorical}, "petal_length", ingest.Categorical, "1.4"},
-		{"booleans declared categorical", xorBool, map[string]ingest.Kind{"y": ingest.Categorical}, "y", ingest.Categorical, "True"},
-		{"a lone number among words stays categorical", editIris(t, func(c [][]string) { c[3][4] = "3" }), nil, "species", ingest.Categorical, "setosa"},
-		{"all cells missing is categorical", editIris(t, func(c [][]string) {
+		{"measurements are numeric", string(fixture.IrisBytes()), nil, "petal_length", tabular.Numeric, "1.4"},
+		{"species is categorical", string(fixture.IrisBytes()), nil, "species", tabular.Categorical, "setosa"},
+		{"0/1 is numeric", xorBool, nil, "x2", tabular.Numeric, "1"},
+		{"true/false in any case is boolean", xorBool, nil, "y", tabular.Boolean, "true"},
+		{"numbers declared categorical", string(fixture.IrisBytes()), map[string]tabular.Kind{"petal_length": tabular.Categorical}, "petal_length", tabular.Categorical, "1.4"},
+		{"booleans declared categorical", xorBool, map[string]tabular.Kind{"y": tabular.Categorical}, "y", tabular.Categorical, "True"},
+		{"a lone number among words stays categorical", fixture.EditIris(func(c [][]string) { c[3][4] = "3" }), nil, "species", tabular.Categorical, "setosa"},
+		{"all cells missing is categorical", fixture.EditIris(func(c [][]string) {
 			for r := 1; r < len(c); r++ {
 				c[r][0] = "NA"
 			}
-		}), nil, "sepal_length", ingest.Categorical, ""},
+		}), nil, "sepal_length", tabular.Categorical, ""},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			tab := readCSVText(t, "in.csv", tt.text, ingest.ReadOptions{Kinds: tt.kinds})
+			tab := fixture.ReadCSVText(t, "in.csv", tt.text, ingest.ReadOptions{Kinds: tt.kinds})
 			col := tab.Column(tt.column)
 			if col.Kind != tt.want {
 				t.Fatalf("%s is %v, want %v", tt.column, col.Kind, tt.want)
@@ -185,7 +156,7 @@ func TestReadCSVKinds(t *testing.T) {
 // TestReadCSVErrors: every bad input is an error that says where.
 func TestReadCSVErrors(t *testing.T) {
 	setCell := func(row, col int, v string) string {
-		return editIris(t, func(c [][]string) { c[row][col-1] = v })
+		return fixture.EditIris(func(c [][]string) { c[row][col-1] = v })
 	}
 	tests := []struct {
 		name     string
@@ -202,31 +173,31 @@ func TestReadCSVErrors(t *testing.T) {
 		{"Inf", setCell(7, 4, "Inf"), ingest.ReadOptions{}, nil, 7, 4, "petal_width", "not a finite number"},
 		{"-Infinity", setCell(7, 4, "-Infinity"), ingest.ReadOptions{}, nil, 7, 4, "petal_width", "not a finite number"},
 		{"1e400 overflows float64", setCell(150, 1, "1e400"), ingest.ReadOptions{}, nil, 150, 1, "sepal_length", "outside the range"}, // IEEE 754: largest float64 ≈ 1.8e308
-		{"declared numeric", string(irisBytes(t)), ingest.ReadOptions{Kinds: map[string]ingest.Kind{"species": ingest.Numeric}}, nil, 1, 5, "species", `"setosa" is not a number`},
-		{"declared boolean", string(irisBytes(t)), ingest.ReadOptions{Kinds: map[string]ingest.Kind{"species": ingest.Boolean}}, nil, 1, 5, "species", "not true or false"},
-		{"kind for an unknown column", string(irisBytes(t)), ingest.ReadOptions{Kinds: map[string]ingest.Kind{"petal": ingest.Numeric}}, nil, 0, 0, "petal", "no such column"},
+		{"declared numeric", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"species": tabular.Numeric}}, nil, 1, 5, "species", `"setosa" is not a number`},
+		{"declared boolean", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"species": tabular.Boolean}}, nil, 1, 5, "species", "not true or false"},
+		{"kind for an unknown column", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"petal": tabular.Numeric}}, nil, 0, 0, "petal", "no such column"},
 		{"row with an extra field", setCell(60, 5, "versicolor,1"), ingest.ReadOptions{}, nil, 60, 0, "", "different number of fields"},
-		{"row with a field short", editIris(t, func(c [][]string) { c[60] = c[60][:4] }), ingest.ReadOptions{}, nil, 60, 0, "", "different number of fields"},
+		{"row with a field short", fixture.EditIris(func(c [][]string) { c[60] = c[60][:4] }), ingest.ReadOptions{}, nil, 60, 0, "", "different number of fields"},
 		{"row with an extra field, batches of 7", setCell(60, 5, "versicolor,1"), ingest.ReadOptions{BatchRows: 7}, nil, 60, 0, "", "different number of fields"},
 		{"row with an extra field, batches of 1", setCell(60, 5, "versicolor,1"), ingest.ReadOptions{BatchRows: 1}, nil, 60, 0, "", "different number of fields"},
 		{"unterminated quote", setCell(120, 5, `"virginica`), ingest.ReadOptions{}, nil, 120, 0, "", "quote"},
 		{"bare quote", setCell(120, 5, `vir"ginica`), ingest.ReadOptions{}, nil, 120, 0, "", "quote"},
 		{"invalid UTF-8", setCell(3, 5, "set\xffosa"), ingest.ReadOptions{}, nil, 3, 5, "species", "UTF-8"}, // RFC 3629: 0xFF never occurs in UTF-8
-		{"invalid UTF-8 in the header", editIris(t, func(c [][]string) { c[0][2] = "petal\xfflength" }), ingest.ReadOptions{}, nil, 0, 3, "", "UTF-8"},
-		{"duplicate column name", editIris(t, func(c [][]string) { c[0][1] = "sepal_length" }), ingest.ReadOptions{}, nil, 0, 2, "sepal_length", "also used by column 1"},
-		{"empty column name", editIris(t, func(c [][]string) { c[0][3] = "" }), ingest.ReadOptions{}, nil, 0, 4, "", "no name"},
+		{"invalid UTF-8 in the header", fixture.EditIris(func(c [][]string) { c[0][2] = "petal\xfflength" }), ingest.ReadOptions{}, nil, 0, 3, "", "UTF-8"},
+		{"duplicate column name", fixture.EditIris(func(c [][]string) { c[0][1] = "sepal_length" }), ingest.ReadOptions{}, nil, 0, 2, "sepal_length", "also used by column 1"},
+		{"empty column name", fixture.EditIris(func(c [][]string) { c[0][3] = "" }), ingest.ReadOptions{}, nil, 0, 4, "", "no name"},
 		{"empty file", "", ingest.ReadOptions{}, ingest.ErrEmpty, 0, 0, "", ""},
 		{"empty file, CSV format given", "", ingest.ReadOptions{Format: ingest.FormatCSV}, ingest.ErrEmpty, 0, 0, "", ""},
 		{"only line ends", "\n\r\n\n", ingest.ReadOptions{}, ingest.ErrEmpty, 0, 0, "", ""},
 		{"only a byte order mark", "\xef\xbb\xbf", ingest.ReadOptions{}, ingest.ErrEmpty, 0, 0, "", ""},
-		{"header only", strings.Join(irisColumns, ",") + "\n", ingest.ReadOptions{}, ingest.ErrNoRows, 0, 0, "", ""},
-		{"header only, no line end", strings.Join(irisColumns, ","), ingest.ReadOptions{}, ingest.ErrNoRows, 0, 0, "", ""},
-		{"header only, CRLF", strings.Join(irisColumns, ",") + "\r\n", ingest.ReadOptions{}, ingest.ErrNoRows, 0, 0, "", ""},
+		{"header only", strings.Join(fixture.IrisColumns, ",") + "\n", ingest.ReadOptions{}, ingest.ErrNoRows, 0, 0, "", ""},
+		{"header only, no line end", strings.Join(fixture.IrisColumns, ","), ingest.ReadOptions{}, ingest.ErrNoRows, 0, 0, "", ""},
+		{"header only, CRLF", strings.Join(fixture.IrisColumns, ",") + "\r\n", ingest.ReadOptions{}, ingest.ErrNoRows, 0, 0, "", ""},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			_, err := ingest.ReadTable("iris.csv", strings.NewReader(tt.text), tt.opts)
-			de := asDataError(t, err)
+			de := fixture.AsDataError(t, err)
 			if tt.sentinel != nil && !errors.Is(err, tt.sentinel) {
 				t.Errorf("error %q is not %q", err, tt.sentinel)
 			}
@@ -296,13 +267,13 @@ func TestDataErrorMessage(t *testing.T) {
 	cause := errors.New(`"abc" is not a number`)
 	tests := []struct {
 		name string
-		err  *ingest.DataError
+		err  *tabular.DataError
 		want string
 	}{
-		{"every field", &ingest.DataError{File: "iris.csv", Row: 42, Line: 43, Column: 3, Name: "petal_length", Err: cause}, `iris.csv: row 42 (line 43), column 3 (petal_length): "abc" is not a number`},
-		{"line when no row", &ingest.DataError{File: "iris.csv", Line: 1, Column: 2, Err: cause}, `iris.csv: line 1, column 2: "abc" is not a number`},
-		{"name only", &ingest.DataError{File: "iris.csv", Name: "petal", Err: cause}, `iris.csv: column petal: "abc" is not a number`},
-		{"stdin", &ingest.DataError{File: "-", Err: ingest.ErrEmpty}, "stdin: the input is empty"},
+		{"every field", &tabular.DataError{File: "iris.csv", Row: 42, Line: 43, Column: 3, Name: "petal_length", Err: cause}, `iris.csv: row 42 (line 43), column 3 (petal_length): "abc" is not a number`},
+		{"line when no row", &tabular.DataError{File: "iris.csv", Line: 1, Column: 2, Err: cause}, `iris.csv: line 1, column 2: "abc" is not a number`},
+		{"name only", &tabular.DataError{File: "iris.csv", Name: "petal", Err: cause}, `iris.csv: column petal: "abc" is not a number`},
+		{"stdin", &tabular.DataError{File: "-", Err: ingest.ErrEmpty}, "stdin: the input is empty"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -317,20 +288,20 @@ func TestDataErrorMessage(t *testing.T) {
 }
 
 func TestParseKind(t *testing.T) {
-	for _, k := range []ingest.Kind{ingest.Numeric, ingest.Categorical, ingest.Boolean} {
+	for _, k := range []tabular.Kind{tabular.Numeric, tabular.Categorical, tabular.Boolean} {
 		t.Run(k.String(), func(t *testing.T) {
 			text, err := k.MarshalText()
 			if err != nil {
 				t.Fatal(err)
 			}
-			var back ingest.Kind
+			var back tabular.Kind
 			if err := back.UnmarshalText(text); err != nil || back != k {
 				t.Fatalf("UnmarshalText(%q) = %v, %v; want %v", text, back, err, k)
 			}
 		})
 	}
 	t.Run("unknown", func(t *testing.T) {
-		if _, err := ingest.ParseKind("ordinal"); err == nil || !strings.HasPrefix(err.Error(), "ingest: ") {
+		if _, err := tabular.ParseKind("ordinal"); err == nil || !strings.HasPrefix(err.Error(), "ingest: ") {
 			t.Errorf("ParseKind(ordinal) error = %v, want an ingest error", err)
 		}
 	})

@@ -1,18 +1,16 @@
-// Package ingest reads tables and turns their columns into input units.
+// Package ingest reads tables: CSV, Arrow IPC (file and stream) and Parquet,
+// from a path or stdin, as streams of Arrow record batches.
 //
-// It is the first stage of the pipeline ingest → fit → evaluate → export.
-// Readers stream Arrow record batches from CSV, Arrow IPC (file and stream)
-// and Parquet; Collect gathers batches into a Table of typed columns;
-// NewDataset picks the target column and its class labels; and a Plan (the
-// binarizer) encodes feature columns into input patterns.
+// It is the first stage of the pipeline ingest → encode → fit → evaluate →
+// export. Readers stream Arrow record batches; Collect gathers batches into
+// a tabular.Table of typed columns. The table types (package tabular) and
+// the encoding plan (package encode) need only the standard library, so
+// only this package links arrow-go.
 //
 // Invariants that always hold:
 //   - Row numbers in errors and results are 1-based data rows: the first row
 //     after a CSV header is row 1.
-//   - Input tables are never modified by a Plan.
-//   - A Plan is fitted only on the rows it is given: inside cross-validation
-//     the caller passes the training fold, so nothing leaks from held-out rows.
-//   - Every unit a Plan produces has activity in [0,1], except the continuous
-//     zscore encoding, which is offered for comparison only.
-//   - Data errors carry position as a *DataError (file, row, column).
+//   - Memory is bounded before anything is allocated from a size the input
+//     declares (Arrow metadata, header and cell lengths).
+//   - Data errors carry position as a *tabular.DataError (file, row, column).
 package ingest

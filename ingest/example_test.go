@@ -5,6 +5,8 @@ import (
 	"strings"
 
 	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // ExampleReadTable reads a small CSV; kinds are inferred from the values
@@ -43,14 +45,14 @@ func ExampleFitPlan() {
 		fmt.Println(err)
 		return
 	}
-	d, err := ingest.NewDataset(tab, "label", nil)
+	d, err := tabular.NewDataset(tab, "label", nil)
 	if err != nil {
 		fmt.Println(err)
 		return
 	}
-	numeric, _ := ingest.ParseNumericEncoding("thermometer:2")
+	numeric, _ := encode.ParseNumericEncoding("thermometer:2")
 	train := []int{0, 1, 2, 3} // rows 1–4; row 5 is held out
-	plan, err := ingest.FitPlan(d.Features, train, ingest.PlanOptions{Numeric: numeric})
+	plan, err := encode.FitPlan(d.Features, train, encode.Options{Numeric: numeric})
 	if err != nil {
 		fmt.Println(err)
 		return

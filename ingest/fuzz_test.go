@@ -12,12 +12,14 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
 	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // checkError fails unless err is a *DataError or an "ingest: " error.
 func checkError(t *testing.T, err error) {
 	t.Helper()
-	var de *ingest.DataError
+	var de *tabular.DataError
 	if !errors.As(err, &de) && !strings.HasPrefix(err.Error(), "ingest: ") {
 		t.Fatalf("error %q (%T) is neither a *DataError nor an ingest error", err, err)
 	}
@@ -29,7 +31,7 @@ var fuzzFormats = []ingest.Format{ingest.FormatAuto, ingest.FormatCSV, ingest.Fo
 // checks the reader's invariants: no panic, a positioned or ingest error,
 // every Arrow byte released, and a table whose columns are all Rows long
 // with finite numbers and valid UTF-8 text.
-func fuzzTable(t *testing.T, data []byte, mode uint8) *ingest.Table {
+func fuzzTable(t *testing.T, data []byte, mode uint8) *tabular.Table {
 	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
 	opts := ingest.ReadOptions{Format: fuzzFormats[mode%4], BatchRows: 1 + int(mode>>2)%5, Allocator: mem}
 	// arrow-go v18.8.0's IPC file reader does not release a message whose
@@ -57,11 +59,11 @@ func fuzzTable(t *testing.T, data []byte, mode uint8) *ingest.Table {
 		}
 		for i := 0; i < table.Rows; i++ {
 			switch c.Kind {
-			case ingest.Categorical:
+			case tabular.Categorical:
 				if !utf8.ValidString(c.Text[i]) || len(c.Text[i]) > ingest.MaxCellBytes {
 					t.Fatalf("column %q row %d: bad text %q", c.Name, i+1, c.Text[i])
 				}
-			case ingest.Numeric, ingest.Boolean:
+			case tabular.Numeric, tabular.Boolean:
 				if v := c.Numbers[i]; math.IsNaN(v) || math.IsInf(v, 0) {
 					t.Fatalf("column %q row %d holds %v", c.Name, i+1, v)
 				}
@@ -97,11 +99,11 @@ func FuzzPlan(f *testing.F) {
 		if table == nil {
 			return
 		}
-		opts := ingest.PlanOptions{
-			Numeric:     ingest.Encoding{Method: fuzzNumeric[method%5], Bins: 2 + int(arg)%10},
-			Categorical: ingest.Encoding{Method: ingest.OneHot, Min: 1 + int(arg)%3},
+		opts := encode.Options{
+			Numeric:     encode.Encoding{Method: fuzzNumeric[method%5], Bins: 2 + int(arg)%10},
+			Categorical: encode.Encoding{Method: encode.OneHot, Min: 1 + int(arg)%3},
 		}
-		if opts.Numeric.Method == ingest.Threshold && arg%2 == 1 {
+		if opts.Numeric.Method == encode.Threshold && arg%2 == 1 {
 			cut := float64(arg) / 10
 			opts.Numeric.Cut = &cut
 		}
@@ -109,7 +111,7 @@ func FuzzPlan(f *testing.F) {
 		for i := 0; i < (table.Rows+1)/2; i++ {
 			train = append(train, i)
 		}
-		plan, err := ingest.FitPlan(table.Columns, train, opts)
+		plan, err := encode.FitPlan(table.Columns, train, opts)
 		if err != nil {
 			checkError(t, err)
 			return
@@ -121,7 +123,7 @@ func FuzzPlan(f *testing.F) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		var back ingest.Plan
+		var back encode.Plan
 		if err := json.Unmarshal(b, &back); err != nil {
 			t.Fatalf("plan JSON does not read back: %v", err)
 		}
@@ -139,7 +141,7 @@ func FuzzPlan(f *testing.F) {
 		}
 		for k, v := range values {
 			f := feature(&back, k%width)
-			if f.Method == ingest.ZScore {
+			if f.Method == encode.ZScore {
 				if math.IsNaN(v) || math.IsInf(v, 0) {
 					t.Fatalf("zscore unit of %q is %v", f.Column, v)
 				}
@@ -153,7 +155,7 @@ func FuzzPlan(f *testing.F) {
 }
 
 // feature returns the feature that input unit i belongs to.
-func feature(p *ingest.Plan, i int) *ingest.Feature {
+func feature(p *encode.Plan, i int) *encode.Feature {
 	for k := range p.Features {
 		w := p.Features[k].Width()
 		if i < w {

@@ -1,10 +1,6 @@
 package ingest_test
 
 import (
-	"bytes"
-	"errors"
-	"os"
-	"path/filepath"
 	"reflect"
 	"testing"
 
@@ -12,45 +8,12 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
-	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 )
-
-// irisPath is Fisher's (1936) Iris data, 150 rows with the corrections to
-// rows 35 and 38 listed in UCI iris.names.
-var irisPath = filepath.Join("..", "testdata", "iris.csv")
-
-// irisColumns is the header of testdata/iris.csv.
-var irisColumns = []string{"sepal_length", "sepal_width", "petal_length", "petal_width", "species"}
-
-// irisBytes returns the bytes of testdata/iris.csv.
-func irisBytes(t testing.TB) []byte {
-	t.Helper()
-	data, err := os.ReadFile(irisPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return data
-}
-
-// readIris reads testdata/iris.csv through ReadTable with default options.
-func readIris(t testing.TB) *ingest.Table {
-	t.Helper()
-	return readCSVText(t, "iris.csv", string(irisBytes(t)), ingest.ReadOptions{})
-}
-
-// readCSVText reads text through ReadTable and fails the test on error.
-func readCSVText(t testing.TB, name, text string, opts ingest.ReadOptions) *ingest.Table {
-	t.Helper()
-	tab, err := ingest.ReadTable(name, bytes.NewReader([]byte(text)), opts)
-	if err != nil {
-		t.Fatalf("ReadTable(%s): %v", name, err)
-	}
-	return tab
-}
 
 // requireTablesEqual fails unless want and got hold the same columns,
 // kinds, values and missing cells.
-func requireTablesEqual(t testing.TB, want, got *ingest.Table) {
+func requireTablesEqual(t testing.TB, want, got *tabular.Table) {
 	t.Helper()
 	if got.Rows != want.Rows || len(got.Columns) != len(want.Columns) {
 		t.Fatalf("got %d rows × %d columns, want %d × %d", got.Rows, len(got.Columns), want.Rows, len(want.Columns))
@@ -69,7 +32,7 @@ func requireTablesEqual(t testing.TB, want, got *ingest.Table) {
 // tableRecord converts a Table into one Arrow record batch: numeric columns
 // as float64, categorical as utf8, boolean as bool, missing cells as nulls.
 // The caller releases it.
-func tableRecord(t testing.TB, mem memory.Allocator, tab *ingest.Table) arrow.RecordBatch {
+func tableRecord(t testing.TB, mem memory.Allocator, tab *tabular.Table) arrow.RecordBatch {
 	t.Helper()
 	fields := make([]arrow.Field, len(tab.Columns))
 	arrays := make([]arrow.Array, len(tab.Columns))
@@ -77,11 +40,11 @@ func tableRecord(t testing.TB, mem memory.Allocator, tab *ingest.Table) arrow.Re
 		var bld array.Builder
 		var typ arrow.DataType
 		switch col.Kind {
-		case ingest.Numeric:
+		case tabular.Numeric:
 			b := array.NewFloat64Builder(mem)
 			b.AppendValues(col.Numbers, valid(col))
 			bld, typ = b, arrow.PrimitiveTypes.Float64
-		case ingest.Boolean:
+		case tabular.Boolean:
 			b := array.NewBooleanBuilder(mem)
 			values := make([]bool, len(col.Numbers))
 			for r, v := range col.Numbers {
@@ -89,7 +52,7 @@ func tableRecord(t testing.TB, mem memory.Allocator, tab *ingest.Table) arrow.Re
 			}
 			b.AppendValues(values, valid(col))
 			bld, typ = b, arrow.FixedWidthTypes.Boolean
-		case ingest.Categorical:
+		case tabular.Categorical:
 			b := array.NewStringBuilder(mem)
 			b.AppendValues(col.Text, valid(col))
 			bld, typ = b, arrow.BinaryTypes.String
@@ -108,7 +71,7 @@ func tableRecord(t testing.TB, mem memory.Allocator, tab *ingest.Table) arrow.Re
 }
 
 // valid is the validity mask of a column for Arrow builders (nil = all valid).
-func valid(col *ingest.Column) []bool {
+func valid(col *tabular.Column) []bool {
 	if col.Missing == nil {
 		return nil
 	}
@@ -117,17 +80,4 @@ func valid(col *ingest.Column) []bool {
 		v[i] = !m
 	}
 	return v
-}
-
-// asDataError fails the test unless err is a *ingest.DataError.
-func asDataError(t testing.TB, err error) *ingest.DataError {
-	t.Helper()
-	if err == nil {
-		t.Fatal("got no error, want a *ingest.DataError")
-	}
-	var de *ingest.DataError
-	if !errors.As(err, &de) {
-		t.Fatalf("got %T (%v), want a *ingest.DataError", err, err)
-	}
-	return de
 }

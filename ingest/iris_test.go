@@ -9,12 +9,14 @@ import (
 	"gonum.org/v1/gonum/stat"
 
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
+	"deltafit/internal/fixture"
 )
 
 // TestIrisSummary checks the Iris table read through ReadTable against the
 // summary statistics printed in UCI iris.names.
 func TestIrisSummary(t *testing.T) {
-	tab := readIris(t)
+	tab := fixture.ReadIris(t)
 	if tab.Rows != 150 { // UCI iris.names: 150 instances
 		t.Fatalf("rows = %d, want 150", tab.Rows)
 	}
@@ -22,10 +24,10 @@ func TestIrisSummary(t *testing.T) {
 	for _, c := range tab.Columns {
 		names = append(names, c.Name)
 	}
-	if !slices.Equal(names, irisColumns) {
-		t.Fatalf("columns = %q, want %q", names, irisColumns)
+	if !slices.Equal(names, fixture.IrisColumns) {
+		t.Fatalf("columns = %q, want %q", names, fixture.IrisColumns)
 	}
-	d, err := ingest.NewDataset(tab, "species", nil)
+	d, err := tabular.NewDataset(tab, "species", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -61,7 +63,7 @@ func TestIrisSummary(t *testing.T) {
 	for _, tt := range tests {
 		t.Run(tt.column, func(t *testing.T) {
 			col := tab.Column(tt.column)
-			if col == nil || col.Kind != ingest.Numeric || col.Missing != nil {
+			if col == nil || col.Kind != tabular.Numeric || col.Missing != nil {
 				t.Fatalf("column %s = %+v, want numeric with no missing cells", tt.column, col)
 			}
 			if lo, hi := slices.Min(col.Numbers), slices.Max(col.Numbers); lo != tt.min || hi != tt.max {
@@ -106,12 +108,12 @@ func TestIrisSepalWidthCorrelation(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			text := string(irisBytes(t))
+			text := string(fixture.IrisBytes())
 			if tt.undo {
 				text = undoIrisCorrections(t, text)
 			}
-			tab := readCSVText(t, "iris.csv", text, ingest.ReadOptions{})
-			d, err := ingest.NewDataset(tab, "species", nil)
+			tab := fixture.ReadCSVText(t, "iris.csv", text, ingest.ReadOptions{})
+			d, err := tabular.NewDataset(tab, "species", nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -125,7 +127,7 @@ func TestIrisSepalWidthCorrelation(t *testing.T) {
 
 // irisClassCode codes the classes 1, 2, 3 in label order, as iris.names does
 // for its class correlations.
-func irisClassCode(d *ingest.Dataset) []float64 {
+func irisClassCode(d *tabular.Dataset) []float64 {
 	code := make([]float64, len(d.Classes))
 	for i, k := range d.Classes {
 		code[i] = float64(k + 1)

@@ -9,6 +9,8 @@ import (
 	"fmt"
 	"io"
 
+	"deltafit/ingest/tabular"
+
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
 	arrowcsv "github.com/apache/arrow-go/v18/arrow/csv"
@@ -48,11 +50,11 @@ type ReadOptions struct {
 	Delimiter rune
 	// Kinds overrides inferred column kinds by column name; naming a
 	// column the input does not have is an error.
-	Kinds map[string]Kind
+	Kinds map[string]tabular.Kind
 	// Expected gives the kinds a model was trained with, by column name.
 	// It applies where Kinds says nothing, and absent columns are not an
 	// error here (the model's plan reports the ones it needs).
-	Expected map[string]Kind
+	Expected map[string]tabular.Kind
 	// BatchRows is the number of rows per record batch; 0 means 4096.
 	BatchRows int
 	// Allocator for Arrow memory; nil means memory.DefaultAllocator.
@@ -110,9 +112,9 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 	head, err := br.Peek(8)
 	if len(head) == 0 {
 		if err != nil && !errors.Is(err, io.EOF) {
-			return nil, &DataError{File: name, Err: err}
+			return nil, &tabular.DataError{File: name, Err: err}
 		}
-		return nil, &DataError{File: name, Err: ErrEmpty}
+		return nil, &tabular.DataError{File: name, Err: ErrEmpty}
 	}
 	format := opts.Format
 	if format == FormatAuto {
@@ -125,16 +127,16 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 		if bytes.HasPrefix(head, arrowFileMagic) {
 			data, err := io.ReadAll(br)
 			if err != nil {
-				return nil, &DataError{File: name, Err: err}
+				return nil, &tabular.DataError{File: name, Err: err}
 			}
 			if err := checkArrowFile(data); err != nil {
-				return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
+				return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
 			}
 			return newArrowFileReader(name, data, opts)
 		}
 		stream, err := checkArrowStream(br)
 		if err != nil {
-			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
+			return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
 		}
 		// ipc.NewReader ignores the metadata size limit, so a stream that
 		// does not start with a schema message (say, a CSV read with
@@ -145,17 +147,17 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 		mr := ipc.NewMessageReader(stream, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(MaxArrowBodyBytes))
 		rdr, err := ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
 		if err != nil {
-			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
+			return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
 		}
 		return rdr, nil
 	case FormatParquet:
 		data, err := io.ReadAll(br)
 		if err != nil {
-			return nil, &DataError{File: name, Err: err}
+			return nil, &tabular.DataError{File: name, Err: err}
 		}
 		return newParquetReader(name, data, opts)
 	}
-	return nil, &DataError{File: name, Err: fmt.Errorf("%w: format %q", ErrUnsupported, format)}
+	return nil, &tabular.DataError{File: name, Err: fmt.Errorf("%w: format %q", ErrUnsupported, format)}
 }
 
 // recoverMalformed turns a panic inside the Arrow and Parquet decoders,
@@ -164,7 +166,7 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 // call into them with untrusted bytes.
 func recoverMalformed(name string, err *error) {
 	if p := recover(); p != nil {
-		*err = &DataError{File: name, Err: fmt.Errorf("%w: the file is malformed (%v); is it truncated or of another format?", ErrUnsupported, p)}
+		*err = &tabular.DataError{File: name, Err: fmt.Errorf("%w: the file is malformed (%v); is it truncated or of another format?", ErrUnsupported, p)}
 	}
 }
 
@@ -181,7 +183,7 @@ func sniff(head []byte) Format {
 func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.RecordReader, error) {
 	if head, _ := br.Peek(len(utf8BOM)); bytes.Equal(head, utf8BOM) {
 		if _, err := br.Discard(len(utf8BOM)); err != nil {
-			return nil, &DataError{File: name, Err: err}
+			return nil, &tabular.DataError{File: name, Err: err}
 		}
 	}
 	delim := opts.Delimiter
@@ -190,7 +192,7 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 	}
 	names, br, err := peekHeader(br, delim)
 	if err != nil {
-		return nil, &DataError{File: name, Line: 1, Err: err}
+		return nil, &tabular.DataError{File: name, Line: 1, Err: err}
 	}
 	fields := make([]arrow.Field, len(names))
 	for i := range names {
@@ -248,7 +250,7 @@ func peekHeader(br *bufio.Reader, delim rune) ([]string, *bufio.Reader, error) {
 func newArrowFileReader(name string, data []byte, opts ReadOptions) (array.RecordReader, error) {
 	fr, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(opts.allocator()))
 	if err != nil {
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
+		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
 	}
 	return &arrowFileReader{fr: fr, refs: 1}, nil
 }
@@ -302,17 +304,17 @@ func (r *arrowFileReader) Release() {
 func newParquetReader(name string, data []byte, opts ReadOptions) (array.RecordReader, error) {
 	pf, err := file.NewParquetReader(bytes.NewReader(data))
 	if err != nil {
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
+		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
 	}
 	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: int64(opts.batchRows())}, opts.allocator())
 	if err != nil {
 		pf.Close()
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
+		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
 	}
 	rr, err := fr.GetRecordReader(context.Background(), nil, nil)
 	if err != nil {
 		pf.Close()
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
+		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
 	}
 	return &parquetReader{RecordReader: rr, pf: pf}, nil
 }

@@ -18,6 +18,7 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
 	"deltafit/ingest"
+	"deltafit/internal/fixture"
 )
 
 // writer writes a record in batches of the given number of rows into one
@@ -85,27 +86,6 @@ func writeParquet(t *testing.T, mem memory.Allocator, rec arrow.RecordBatch, bat
 	return buf.Bytes()
 }
 
-// irisWithGaps is testdata/iris.csv with NA in sepal_width of every 10th
-// row, an empty species cell in row 5, and a boolean column is_setosa, so
-// that round trips also cover missing cells and every kind.
-func irisWithGaps(t testing.TB) string {
-	t.Helper()
-	lines := strings.Split(strings.TrimRight(string(irisBytes(t)), "\n"), "\n")
-	lines[0] += ",is_setosa"
-	for row := 1; row < len(lines); row++ {
-		cells := strings.Split(lines[row], ",")
-		cells = append(cells, fmt.Sprint(cells[4] == "setosa"))
-		if row%10 == 0 {
-			cells[1] = "NA"
-		}
-		if row == 5 {
-			cells[4] = ""
-		}
-		lines[row] = strings.Join(cells, ",")
-	}
-	return strings.Join(lines, "\n") + "\n"
-}
-
 // TestReadFormatsRoundTrip writes the table read from CSV as Arrow IPC file,
 // Arrow IPC stream and Parquet, in batches of 1, 7 and 4096 rows, and reads
 // each back to the same table with every Arrow byte released.
@@ -114,11 +94,11 @@ func TestReadFormatsRoundTrip(t *testing.T) {
 		name string
 		csv  string
 	}{
-		{"iris", string(irisBytes(t))},
-		{"iris with gaps", irisWithGaps(t)},
+		{"iris", string(fixture.IrisBytes())},
+		{"iris with gaps", fixture.IrisWithGaps()},
 	}
 	for _, src := range sources {
-		want := readCSVText(t, "in", src.csv, ingest.ReadOptions{})
+		want := fixture.ReadCSVText(t, "in", src.csv, ingest.ReadOptions{})
 		for _, w := range writers {
 			for _, batchRows := range []int{1, 7, 4096} {
 				for _, format := range []ingest.Format{ingest.FormatAuto, w.format} {
@@ -146,10 +126,10 @@ func TestReadFormatsRoundTrip(t *testing.T) {
 // to the same table, and the batches have the asked-for size.
 func TestReadCSVBatchRows(t *testing.T) {
 	for _, src := range []struct{ name, csv string }{
-		{"iris", string(irisBytes(t))},
-		{"iris with gaps", irisWithGaps(t)},
+		{"iris", string(fixture.IrisBytes())},
+		{"iris with gaps", fixture.IrisWithGaps()},
 	} {
-		want := readCSVText(t, "in", src.csv, ingest.ReadOptions{})
+		want := fixture.ReadCSVText(t, "in", src.csv, ingest.ReadOptions{})
 		for _, batchRows := range []int{1, 7, 4096} {
 			t.Run(fmt.Sprintf("%s/batch %d", src.name, batchRows), func(t *testing.T) {
 				mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
@@ -188,14 +168,14 @@ func TestReadCSVBatchRows(t *testing.T) {
 // TestReadFromPipe reads inputs that cannot seek: a one-byte-at-a-time
 // reader and an io.Pipe fed by a writer as the reader consumes it.
 func TestReadFromPipe(t *testing.T) {
-	want := readIris(t)
+	want := fixture.ReadIris(t)
 	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
 	rec := tableRecord(t, mem, want)
 	inputs := []struct {
 		name string
 		data []byte
 	}{
-		{"csv", irisBytes(t)},
+		{"csv", fixture.IrisBytes()},
 		{"arrow stream", writeArrowStream(t, mem, rec, 7)},
 		{"arrow file, buffered first", writeArrowFile(t, mem, rec, 7)},
 		{"parquet, buffered first", writeParquet(t, mem, rec, 7)},
@@ -244,7 +224,7 @@ func TestReadFromPipe(t *testing.T) {
 // TestReadFormatErrors covers inputs that are not what the format says.
 func TestReadFormatErrors(t *testing.T) {
 	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
-	rec := tableRecord(t, mem, readIris(t))
+	rec := tableRecord(t, mem, fixture.ReadIris(t))
 	stream := writeArrowStream(t, mem, rec, 50)
 	pq := writeParquet(t, mem, rec, 50)
 	rec.Release()
@@ -253,8 +233,8 @@ func TestReadFormatErrors(t *testing.T) {
 		data   []byte
 		format ingest.Format
 	}{
-		{"csv read as arrow", irisBytes(t), ingest.FormatArrow},
-		{"csv read as parquet", irisBytes(t), ingest.FormatParquet},
+		{"csv read as arrow", fixture.IrisBytes(), ingest.FormatArrow},
+		{"csv read as parquet", fixture.IrisBytes(), ingest.FormatParquet},
 		{"truncated arrow stream", stream[:len(stream)/2], ingest.FormatAuto},
 		{"truncated parquet", pq[:len(pq)/2], ingest.FormatAuto},
 	}

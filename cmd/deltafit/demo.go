@@ -14,6 +14,7 @@ import (
 	"deltafit/export"
 	"deltafit/fit"
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 	"deltafit/internal/demo"
 )
 
@@ -52,7 +53,7 @@ func runDemo(_ context.Context, opts demoOptions, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
-	d, err := ingest.NewDataset(table, demo.Target, []string{demo.Ignore})
+	d, err := tabular.NewDataset(table, demo.Target, []string{demo.Ignore})
 	if err != nil {
 		return err
 	}

@@ -8,7 +8,7 @@ import (
 
 	"deltafit/evaluate"
 	"deltafit/export"
-	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 )
 
 type evaluateOptions struct {
@@ -48,7 +48,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err != nil {
 		return err
 	}
-	truth, err := ingest.TargetClasses(table, model.Target, model.Labels)
+	truth, err := tabular.TargetClasses(table, model.Target, model.Labels)
 	if err != nil {
 		return err
 	}
@@ -65,7 +65,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	}
 	counts := confusion.RowTotals()
 	data := export.DataSummary{
-		Source: ingest.DisplayName(path), SHA256: sha, Rows: table.Rows,
+		Source: tabular.DisplayName(path), SHA256: sha, Rows: table.Rows,
 		Features: len(model.Plan.Features), Inputs: model.Plan.Width(),
 		Target: model.Target, Labels: model.Labels, ClassCounts: counts,
 	}

@@ -14,7 +14,8 @@ import (
 	"deltafit/evaluate"
 	"deltafit/export"
 	"deltafit/fit"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // learnFlags are the encoding and training flags of fit (and check).
@@ -55,10 +56,10 @@ func (f *learnFlags) learner() (evaluate.Learner, error) {
 			return l, usagef("--ignore %q: a column name is empty; separate names with single commas", strings.Join(f.ignore, ","))
 		}
 	}
-	if l.Plan.Numeric, err = ingest.ParseNumericEncoding(f.numeric); err != nil {
+	if l.Plan.Numeric, err = encode.ParseNumericEncoding(f.numeric); err != nil {
 		return l, usagef("--numeric: %v", err)
 	}
-	if l.Plan.Categorical, err = ingest.ParseCategoricalEncoding(f.categorical); err != nil {
+	if l.Plan.Categorical, err = encode.ParseCategoricalEncoding(f.categorical); err != nil {
 		return l, usagef("--categorical: %v", err)
 	}
 	if l.Fit.Rule, err = fit.RuleByName(f.rule); err != nil {
@@ -157,7 +158,7 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 		return divergenceHint(err, opts.learn)
 	}
 	if study.Fitted.Plan.Width() == 0 {
-		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", ingest.DisplayName(path))
+		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", tabular.DisplayName(path))
 	}
 	model := &export.Model{
 		Schema:   export.SchemaVersion,
@@ -186,7 +187,7 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 
 // loadDataset checks the encoding and training flags, then reads the data
 // and picks its target, returning the sha256 of the bytes read.
-func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reader) (evaluate.Learner, *ingest.Dataset, string, error) {
+func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reader) (evaluate.Learner, *tabular.Dataset, string, error) {
 	learner, err := learn.learner()
 	if err != nil {
 		return learner, nil, "", err
@@ -199,7 +200,7 @@ func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reade
 	if err != nil {
 		return learner, nil, "", err
 	}
-	d, err := ingest.NewDataset(table, learn.target, learn.ignore)
+	d, err := tabular.NewDataset(table, learn.target, learn.ignore)
 	return learner, d, sha, err
 }
 
@@ -228,13 +229,13 @@ func divergenceHint(err error, learn learnFlags) error {
 	return fmt.Errorf("%w; try --rate auto, or a smaller --rate", err)
 }
 
-func dataSummary(d *ingest.Dataset, plan *ingest.Plan, sha string) export.DataSummary {
+func dataSummary(d *tabular.Dataset, plan *encode.Plan, sha string) export.DataSummary {
 	counts := make([]int, len(d.Labels))
 	for _, c := range d.Classes {
 		counts[c]++
 	}
 	return export.DataSummary{
-		Source: ingest.DisplayName(d.Table.Name), SHA256: sha, Rows: d.Table.Rows,
+		Source: tabular.DisplayName(d.Table.Name), SHA256: sha, Rows: d.Table.Rows,
 		Features: len(d.Features), Inputs: plan.Width(),
 		Target: d.Target, Labels: d.Labels, ClassCounts: counts,
 	}

@@ -12,6 +12,7 @@ import (
 
 	"deltafit/export"
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 )
 
 // inputFlags are the flags every command that reads a table shares.
@@ -47,12 +48,12 @@ func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
 		if !ok || col == "" {
 			return opts, usagef("--kind %q: write COLUMN=numeric, COLUMN=categorical or COLUMN=boolean", kv)
 		}
-		k, err := ingest.ParseKind(kind)
+		k, err := tabular.ParseKind(kind)
 		if err != nil {
 			return opts, usagef("--kind %q: %v", kv, err)
 		}
 		if opts.Kinds == nil {
-			opts.Kinds = map[string]ingest.Kind{}
+			opts.Kinds = map[string]tabular.Kind{}
 		}
 		if _, twice := opts.Kinds[col]; twice {
 			return opts, usagef("--kind: column %q is given a kind twice; give one", col)
@@ -64,7 +65,7 @@ func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
 
 // readTable reads a whole table from a path or "-" (stdin) and returns it
 // with the sha256 of the bytes read.
-func readTable(path string, stdin io.Reader, opts ingest.ReadOptions) (*ingest.Table, string, error) {
+func readTable(path string, stdin io.Reader, opts ingest.ReadOptions) (*tabular.Table, string, error) {
 	var r io.Reader = stdin
 	if path != "-" {
 		f, err := os.Open(path)

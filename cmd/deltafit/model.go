@@ -9,7 +9,8 @@ import (
 	"github.com/spf13/pflag"
 
 	"deltafit/export"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // modelInput are the flags of the commands that apply a saved model.
@@ -27,7 +28,7 @@ func (m *modelInput) add(fs *pflag.FlagSet) {
 
 // load reads the model and then the data, read with the kinds the model's
 // plan expects (a --kind flag still wins).
-func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *ingest.Table, string, error) {
+func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *tabular.Table, string, error) {
 	if m.model == "" {
 		return nil, nil, "", usagef("--model is required: give a model file written by fit -o")
 	}
@@ -43,7 +44,7 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *ingest.
 		defer f.Close()
 		modelFile = f
 	}
-	model, err := export.ReadModel(ingest.DisplayName(m.model), modelFile)
+	model, err := export.ReadModel(tabular.DisplayName(m.model), modelFile)
 	if err != nil {
 		return nil, nil, "", fmt.Errorf("%w; fit a new model with deltafit fit -o", err)
 	}
@@ -62,9 +63,9 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *ingest.
 // checkEncoding reports what the model's plan met that it was not fitted
 // on: one warning line per column on stderr, or with --strict an error
 // naming the first such cell.
-func (m *modelInput) checkEncoding(stderr io.Writer, name string, stats ingest.EncodeStats) error {
+func (m *modelInput) checkEncoding(stderr io.Writer, name string, stats encode.Stats) error {
 	for _, kind := range []struct {
-		cells map[string]ingest.Surprise
+		cells map[string]encode.Surprise
 		warn  string
 		fail  string
 	}{
@@ -81,10 +82,10 @@ func (m *modelInput) checkEncoding(stderr io.Writer, name string, stats ingest.E
 		for _, c := range cols {
 			s := kind.cells[c]
 			if m.strict {
-				return &ingest.DataError{File: name, Row: s.FirstRow, Name: c,
+				return &tabular.DataError{File: name, Row: s.FirstRow, Name: c,
 					Err: fmt.Errorf("%s; cells like it in the column: %d; --strict refuses them (without it they are a warning)", kind.fail, s.Count)}
 			}
-			fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: %s: %d (first at row %d)\n", ingest.DisplayName(name), c, kind.warn, s.Count, s.FirstRow)
+			fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: %s: %d (first at row %d)\n", tabular.DisplayName(name), c, kind.warn, s.Count, s.FirstRow)
 		}
 	}
 	return nil

@@ -10,7 +10,8 @@ import (
 	"gonum.org/v1/gonum/stat"
 
 	"deltafit/fit"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // Space is the space in which rows are compared.
@@ -39,10 +40,10 @@ const DefaultGroups = 10
 // CheckOptions chooses what Check examines. The zero value checks each
 // class against the rest in the encoded space of the default plan.
 type CheckOptions struct {
-	Space Space              // default Encoded
-	Plan  ingest.PlanOptions // the encoding, for the encoded space
-	Pairs bool               // also check each pair of classes
-	Seed  uint64             // see Options.Seed
+	Space Space          // default Encoded
+	Plan  encode.Options // the encoding, for the encoded space
+	Pairs bool           // also check each pair of classes
+	Seed  uint64         // see Options.Seed
 	// Groups is how many conflicting and duplicate groups to list
 	// (default DefaultGroups; negative lists none).
 	Groups int
@@ -84,7 +85,7 @@ const Rest = "rest"
 // proofs, which splits of its classes a hyperplane can make. With two
 // classes there is one split, Labels[1] against Labels[0]; with more, each
 // class against the rest and, with Pairs, each pair of classes.
-func Check(d *ingest.Dataset, opts CheckOptions) (*Report, error) {
+func Check(d *tabular.Dataset, opts CheckOptions) (*Report, error) {
 	if opts.Space == "" {
 		opts.Space = Encoded
 	}
@@ -168,10 +169,10 @@ type LeftOut struct {
 
 // Coordinates returns the rows of d in the given space, with the names of
 // the coordinates and, in the raw space, the feature columns left out.
-func Coordinates(d *ingest.Dataset, space Space, plan ingest.PlanOptions) (fit.Patterns, []string, []LeftOut, error) {
+func Coordinates(d *tabular.Dataset, space Space, plan encode.Options) (fit.Patterns, []string, []LeftOut, error) {
 	switch space {
 	case Encoded:
-		fitted, err := ingest.FitPlan(d.Features, nil, plan)
+		fitted, err := encode.FitPlan(d.Features, nil, plan)
 		if err != nil {
 			return fit.Patterns{}, nil, nil, err
 		}
@@ -192,25 +193,25 @@ const (
 
 // standardized returns the numeric feature columns of d as z-scores, and
 // the feature columns it leaves out.
-func standardized(d *ingest.Dataset) (fit.Patterns, []string, []LeftOut, error) {
-	var cols []*ingest.Column
+func standardized(d *tabular.Dataset) (fit.Patterns, []string, []LeftOut, error) {
+	var cols []*tabular.Column
 	var names []string
 	var centers, scales []float64
 	leftOut := []LeftOut{}
 	for _, col := range d.Features {
-		if col.Kind != ingest.Numeric {
+		if col.Kind != tabular.Numeric {
 			leftOut = append(leftOut, LeftOut{col.Name, col.Kind.String()})
 			continue
 		}
 		position := slices.Index(d.Table.Columns, col) + 1 // 0 (unknown) when col is not the table's
 		if n := col.MissingCount(); n > 0 {
 			first := slices.Index(col.Missing, true)
-			return fit.Patterns{}, nil, nil, &ingest.DataError{File: d.Table.Name, Row: first + 1, Column: position, Name: col.Name,
+			return fit.Patterns{}, nil, nil, &tabular.DataError{File: d.Table.Name, Row: first + 1, Column: position, Name: col.Name,
 				Err: fmt.Errorf("the cell is missing (%d in the column); the raw space needs every cell: fill them in, --ignore the column, or use the encoded space", n)}
 		}
 		mean, sd := stat.MeanStdDev(col.Numbers, nil)
 		if math.IsInf(sd, 0) || math.IsNaN(sd) {
-			return fit.Patterns{}, nil, nil, &ingest.DataError{File: d.Table.Name, Column: position, Name: col.Name, Err: errors.New("the values span more than a 64-bit float holds, which standardizing cannot scale; rescale the column, --ignore it, or use the encoded space")}
+			return fit.Patterns{}, nil, nil, &tabular.DataError{File: d.Table.Name, Column: position, Name: col.Name, Err: errors.New("the values span more than a 64-bit float holds, which standardizing cannot scale; rescale the column, --ignore it, or use the encoded space")}
 		}
 		if !(sd > 0) { // no direction to separate along
 			reason := constant
@@ -224,7 +225,7 @@ func standardized(d *ingest.Dataset) (fit.Patterns, []string, []LeftOut, error) 
 		centers, scales = append(centers, mean), append(scales, sd)
 	}
 	if len(names) == 0 {
-		return fit.Patterns{}, nil, nil, &ingest.DataError{File: d.Table.Name, Err: fmt.Errorf(
+		return fit.Patterns{}, nil, nil, &tabular.DataError{File: d.Table.Name, Err: fmt.Errorf(
 			"no numeric feature column varies, so the raw space has nothing to compare (use the encoded space); left out: %s", LeftOutList(leftOut))}
 	}
 	rows := d.Table.Rows

@@ -20,7 +20,7 @@
 // the verdict is TooManyInputs, unless a pattern found on both sides
 // proves the split not separable at once.
 //
-// Check works on a whole ingest.Dataset: each class against the rest (and,
+// Check works on a whole tabular.Dataset: each class against the rest (and,
 // with Pairs, each pair of classes), in the encoded input space or in the
 // standardized raw numeric columns; it also finds conflicting rows (one
 // pattern, several classes) with the error floor they impose on any

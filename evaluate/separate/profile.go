@@ -7,7 +7,7 @@ import (
 	"strconv"
 	"strings"
 
-	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 )
 
 // Profile describes a dataset before any model sees it.
@@ -62,7 +62,7 @@ type Separator struct {
 
 // NewProfile profiles the target and the feature columns of d, listing at
 // most the first most groups of duplicate rows.
-func NewProfile(d *ingest.Dataset, most int) Profile {
+func NewProfile(d *tabular.Dataset, most int) Profile {
 	p := Profile{Rows: d.Table.Rows, Constant: []string{}, Missing: []ColumnCount{}, Cardinality: []ColumnCount{}, Separators: []Separator{},
 		DuplicateGroups: [][]int{}}
 	counts := make([]int, len(d.Labels))
@@ -88,7 +88,7 @@ func NewProfile(d *ingest.Dataset, most int) Profile {
 		if len(distinct) == 1 {
 			p.Constant = append(p.Constant, col.Name)
 		}
-		if col.Kind == ingest.Categorical {
+		if col.Kind == tabular.Categorical {
 			p.Cardinality = append(p.Cardinality, ColumnCount{Column: col.Name, Count: len(distinct)})
 		}
 		for k, label := range d.Labels {
@@ -115,7 +115,7 @@ func NewProfile(d *ingest.Dataset, most int) Profile {
 
 // rowKey is a map key equal for rows with the same class and the same
 // feature cells, missing matching missing.
-func rowKey(d *ingest.Dataset, r int) string {
+func rowKey(d *tabular.Dataset, r int) string {
 	var b strings.Builder
 	b.WriteString(strconv.Itoa(d.Classes[r]))
 	for _, col := range d.Features {
@@ -131,8 +131,8 @@ func rowKey(d *ingest.Dataset, r int) string {
 
 // separates reports how col splits class k from the other rows on its
 // own, or "" when it does not.
-func separates(col *ingest.Column, classes []int, k int) string {
-	if col.Kind == ingest.Categorical {
+func separates(col *tabular.Column, classes []int, k int) string {
+	if col.Kind == tabular.Categorical {
 		inClass, inRest := map[string]bool{}, map[string]bool{}
 		for r, c := range classes {
 			v := "\x00missing"

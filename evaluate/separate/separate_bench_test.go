@@ -6,12 +6,13 @@ import (
 	"strconv"
 	"testing"
 
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // benchDataset makes rows × columns of uniform numbers with three classes,
 // each row's class the arg max of three random linear scores of it.
-func benchDataset(rows, columns int, seed uint64) *ingest.Dataset {
+func benchDataset(rows, columns int, seed uint64) *tabular.Dataset {
 	rng := rand.New(rand.NewPCG(seed, 2))
 	weights := make([][]float64, 3)
 	for k := range weights {
@@ -20,11 +21,11 @@ func benchDataset(rows, columns int, seed uint64) *ingest.Dataset {
 			weights[k][j] = rng.NormFloat64()
 		}
 	}
-	table := &ingest.Table{Name: "bench", Rows: rows}
+	table := &tabular.Table{Name: "bench", Rows: rows}
 	for j := 0; j < columns; j++ {
-		table.Columns = append(table.Columns, &ingest.Column{Name: "x" + strconv.Itoa(j), Kind: ingest.Numeric, Numbers: make([]float64, rows)})
+		table.Columns = append(table.Columns, &tabular.Column{Name: "x" + strconv.Itoa(j), Kind: tabular.Numeric, Numbers: make([]float64, rows)})
 	}
-	target := &ingest.Column{Name: "y", Kind: ingest.Categorical, Text: make([]string, rows)}
+	target := &tabular.Column{Name: "y", Kind: tabular.Categorical, Text: make([]string, rows)}
 	table.Columns = append(table.Columns, target)
 	for r := 0; r < rows; r++ {
 		var scores [3]float64
@@ -43,7 +44,7 @@ func benchDataset(rows, columns int, seed uint64) *ingest.Dataset {
 		}
 		target.Text[r] = "c" + strconv.Itoa(best)
 	}
-	d, err := ingest.NewDataset(table, "y", nil)
+	d, err := tabular.NewDataset(table, "y", nil)
 	if err != nil {
 		panic(err)
 	}
@@ -60,7 +61,7 @@ func BenchmarkCheck(b *testing.B) {
 			columns int
 		}{{Raw, 64}, {Encoded, 8}} {
 			d := benchDataset(rows, tc.columns, 1)
-			opts := CheckOptions{Space: tc.space, Seed: 1, Plan: ingest.PlanOptions{Numeric: ingest.Encoding{Method: ingest.Thermometer, Bins: 9}}}
+			opts := CheckOptions{Space: tc.space, Seed: 1, Plan: encode.Options{Numeric: encode.Encoding{Method: encode.Thermometer, Bins: 9}}}
 			b.Run(fmt.Sprintf("rows=%d/inputs=64/classes=3/space=%s", rows, tc.space), func(b *testing.B) {
 				b.ReportAllocs()
 				for b.Loop() {
@@ -86,7 +87,7 @@ func BenchmarkSeparateWidth(b *testing.B) {
 	for _, rows := range []int{1000, 2000} {
 		for _, inputs := range []int{64, 128, 192, 256} {
 			d := benchDataset(rows, inputs, 1)
-			p, _, _, err := Coordinates(d, Raw, ingest.PlanOptions{})
+			p, _, _, err := Coordinates(d, Raw, encode.Options{})
 			if err != nil {
 				b.Fatal(err)
 			}

@@ -12,10 +12,11 @@ import (
 
 	"deltafit/fit"
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 )
 
 // readDataset reads a reference table from the repository's testdata.
-func readDataset(t *testing.T, name, target string) *ingest.Dataset {
+func readDataset(t *testing.T, name, target string) *tabular.Dataset {
 	t.Helper()
 	path := filepath.Join("..", "..", "testdata", name)
 	f, err := os.Open(path)
@@ -27,7 +28,7 @@ func readDataset(t *testing.T, name, target string) *ingest.Dataset {
 	if err != nil {
 		t.Fatal(err)
 	}
-	d, err := ingest.NewDataset(table, target, nil)
+	d, err := tabular.NewDataset(table, target, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -281,11 +282,11 @@ func TestConflicts(t *testing.T) {
 	// Hand count: rows 1-2 and 3-4 are two pairs with one pattern and two
 	// classes, so any classifier errs on at least one row of each pair:
 	// floor = 2/N with N = 6.
-	table := &ingest.Table{Name: "conflicts", Rows: 6, Columns: []*ingest.Column{
-		{Name: "colour", Kind: ingest.Categorical, Text: []string{"red", "red", "blue", "blue", "green", "grey"}},
-		{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "b", "a", "b", "a", "b"}},
+	table := &tabular.Table{Name: "conflicts", Rows: 6, Columns: []*tabular.Column{
+		{Name: "colour", Kind: tabular.Categorical, Text: []string{"red", "red", "blue", "blue", "green", "grey"}},
+		{Name: "y", Kind: tabular.Categorical, Text: []string{"a", "b", "a", "b", "a", "b"}},
 	}}
-	d, err := ingest.NewDataset(table, "y", nil)
+	d, err := tabular.NewDataset(table, "y", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -331,17 +332,17 @@ func TestInputCap(t *testing.T) {
 	// Worked by hand: the truth tables have 2 inputs in the raw space, over a
 	// cap of 1; the conflicts table's colour column becomes 4 one-hot units,
 	// and its rows 1 and 2 share a pattern across the classes.
-	conflicting := &ingest.Table{Name: "conflicts", Rows: 4, Columns: []*ingest.Column{
-		{Name: "colour", Kind: ingest.Categorical, Text: []string{"red", "red", "blue", "grey"}},
-		{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "b", "a", "b"}},
+	conflicting := &tabular.Table{Name: "conflicts", Rows: 4, Columns: []*tabular.Column{
+		{Name: "colour", Kind: tabular.Categorical, Text: []string{"red", "red", "blue", "grey"}},
+		{Name: "y", Kind: tabular.Categorical, Text: []string{"a", "b", "a", "b"}},
 	}}
-	shared, err := ingest.NewDataset(conflicting, "y", nil)
+	shared, err := tabular.NewDataset(conflicting, "y", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, tc := range []struct {
 		name   string
-		d      *ingest.Dataset
+		d      *tabular.Dataset
 		space  Space
 		want   Verdict
 		reason []string // phrases the reason must hold
@@ -374,21 +375,21 @@ func TestInputCap(t *testing.T) {
 
 // handTable builds a table of the given columns over rows; every column
 // holds the same number of values.
-func handTable(rows int, cols ...*ingest.Column) *ingest.Table {
-	return &ingest.Table{Name: "hand", Rows: rows, Columns: cols}
+func handTable(rows int, cols ...*tabular.Column) *tabular.Table {
+	return &tabular.Table{Name: "hand", Rows: rows, Columns: cols}
 }
 
 func TestRawSpaceLeftOut(t *testing.T) {
 	// Worked by hand: of the features only x is numeric and varies.
 	table := handTable(4,
-		&ingest.Column{Name: "colour", Kind: ingest.Categorical, Text: []string{"red", "red", "blue", "blue"}},
-		&ingest.Column{Name: "flag", Kind: ingest.Boolean, Numbers: []float64{1, 0, 1, 0}},
-		&ingest.Column{Name: "x", Kind: ingest.Numeric, Numbers: []float64{1, 2, 3, 4}},
-		&ingest.Column{Name: "k", Kind: ingest.Numeric, Numbers: []float64{5, 5, 5, 5}},
-		&ingest.Column{Name: "tiny", Kind: ingest.Numeric, Numbers: []float64{1e-320, 2e-320, 1e-320, 2e-320}},
-		&ingest.Column{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "a", "b", "b"}},
+		&tabular.Column{Name: "colour", Kind: tabular.Categorical, Text: []string{"red", "red", "blue", "blue"}},
+		&tabular.Column{Name: "flag", Kind: tabular.Boolean, Numbers: []float64{1, 0, 1, 0}},
+		&tabular.Column{Name: "x", Kind: tabular.Numeric, Numbers: []float64{1, 2, 3, 4}},
+		&tabular.Column{Name: "k", Kind: tabular.Numeric, Numbers: []float64{5, 5, 5, 5}},
+		&tabular.Column{Name: "tiny", Kind: tabular.Numeric, Numbers: []float64{1e-320, 2e-320, 1e-320, 2e-320}},
+		&tabular.Column{Name: "y", Kind: tabular.Categorical, Text: []string{"a", "a", "b", "b"}},
 	)
-	d, err := ingest.NewDataset(table, "y", nil)
+	d, err := tabular.NewDataset(table, "y", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -402,7 +403,7 @@ func TestRawSpaceLeftOut(t *testing.T) {
 	}
 
 	t.Run("nothing varies names the columns", func(t *testing.T) {
-		d, err := ingest.NewDataset(table, "y", []string{"x"})
+		d, err := tabular.NewDataset(table, "y", []string{"x"})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -420,18 +421,18 @@ func TestRawSpaceLeftOut(t *testing.T) {
 
 func TestRawSpaceErrorPosition(t *testing.T) {
 	// Worked by hand: the column with the missing cell is the table's third.
-	missing := &ingest.Column{Name: "x", Kind: ingest.Numeric, Numbers: []float64{1, 0, 3, 4}, Missing: []bool{false, true, false, false}}
+	missing := &tabular.Column{Name: "x", Kind: tabular.Numeric, Numbers: []float64{1, 0, 3, 4}, Missing: []bool{false, true, false, false}}
 	table := handTable(4,
-		&ingest.Column{Name: "y", Kind: ingest.Categorical, Text: []string{"a", "a", "b", "b"}},
-		&ingest.Column{Name: "w", Kind: ingest.Numeric, Numbers: []float64{1, 2, 3, 4}},
+		&tabular.Column{Name: "y", Kind: tabular.Categorical, Text: []string{"a", "a", "b", "b"}},
+		&tabular.Column{Name: "w", Kind: tabular.Numeric, Numbers: []float64{1, 2, 3, 4}},
 		missing,
 	)
-	d, err := ingest.NewDataset(table, "y", nil)
+	d, err := tabular.NewDataset(table, "y", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	_, err = Check(d, CheckOptions{Space: Raw})
-	var de *ingest.DataError
+	var de *tabular.DataError
 	if !errors.As(err, &de) || de.Row != 2 || de.Column != 3 || de.Name != "x" {
 		t.Fatalf("error %v, want a DataError at row 2, column 3 (x)", err)
 	}
@@ -444,11 +445,11 @@ func TestDuplicateRows(t *testing.T) {
 		// another class, a conflict, not a duplicate; row 8 matches row 4
 		// except for a missing cell, which only matches a missing one.
 		table := handTable(8,
-			&ingest.Column{Name: "x", Kind: ingest.Numeric, Numbers: []float64{1, 1, 1, 3, 1, 3, 1, 0}, Missing: []bool{false, false, false, false, false, false, false, true}},
-			&ingest.Column{Name: "c", Kind: ingest.Categorical, Text: []string{"red", "red", "red", "blue", "red", "blue", "red", "blue"}},
-			&ingest.Column{Name: "y", Kind: ingest.Categorical, Text: []string{"p", "q", "p", "q", "p", "q", "q", "q"}},
+			&tabular.Column{Name: "x", Kind: tabular.Numeric, Numbers: []float64{1, 1, 1, 3, 1, 3, 1, 0}, Missing: []bool{false, false, false, false, false, false, false, true}},
+			&tabular.Column{Name: "c", Kind: tabular.Categorical, Text: []string{"red", "red", "red", "blue", "red", "blue", "red", "blue"}},
+			&tabular.Column{Name: "y", Kind: tabular.Categorical, Text: []string{"p", "q", "p", "q", "p", "q", "q", "q"}},
 		)
-		d, err := ingest.NewDataset(table, "y", nil)
+		d, err := tabular.NewDataset(table, "y", nil)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
 )
 
 var (
@@ -23,7 +24,7 @@ var (
 var Files = map[string][]byte{"iris.csv": IrisCSV, "xor.csv": XorCSV, "and.csv": AndCSV, "or.csv": OrCSV}
 
 // Dataset reads an embedded file with default options and picks target.
-func Dataset(name, target string) (*ingest.Dataset, error) {
+func Dataset(name, target string) (*tabular.Dataset, error) {
 	data, ok := Files[name]
 	if !ok {
 		return nil, fmt.Errorf("refdata: no embedded file %q", name)
@@ -32,8 +33,8 @@ func Dataset(name, target string) (*ingest.Dataset, error) {
 	if err != nil {
 		return nil, err
 	}
-	return ingest.NewDataset(t, target, nil)
+	return tabular.NewDataset(t, target, nil)
 }
 
 // Iris is the Iris data with species as the target.
-func Iris() (*ingest.Dataset, error) { return Dataset("iris.csv", "species") }
+func Iris() (*tabular.Dataset, error) { return Dataset("iris.csv", "species") }

@@ -10,7 +10,7 @@ import (
 
 	"deltafit/evaluate"
 	"deltafit/fit"
-	"deltafit/ingest"
+	"deltafit/ingest/encode"
 	"deltafit/internal/refdata"
 )
 
@@ -220,7 +220,7 @@ func leastSquaresCase() ([]Case, error) {
 		}
 	}
 	learner := evaluate.Learner{
-		Plan: ingest.PlanOptions{Numeric: ingest.Encoding{Method: ingest.ZScore}},
+		Plan: encode.Options{Numeric: encode.Encoding{Method: encode.ZScore}},
 		Fit:  fit.Options{Unit: fit.Linear, Batch: true, KeepGoing: true, Epochs: 50000, Tolerance: 1e-300},
 	}
 	fitted, err := learner.Train(&virginica, nil)

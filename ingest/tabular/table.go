@@ -1,4 +1,4 @@
-package ingest
+package tabular
 
 import (
 	"fmt"
@@ -111,8 +111,9 @@ func (t *Table) Column(name string) *Column {
 	return nil
 }
 
-// columnIndex returns the 0-based position of a column, or -1.
-func (t *Table) columnIndex(name string) int {
+// Index returns the 0-based position of the column with the given name,
+// or -1.
+func (t *Table) Index(name string) int {
 	for i, c := range t.Columns {
 		if c.Name == name {
 			return i

@@ -1,4 +1,4 @@
-package ingest_test
+package tabular_test
 
 import (
 	"slices"
@@ -7,9 +7,11 @@ import (
 	"testing"
 
 	"deltafit/ingest"
+	"deltafit/ingest/tabular"
+	"deltafit/internal/fixture"
 )
 
-func columnNames(cols []*ingest.Column) []string {
+func columnNames(cols []*tabular.Column) []string {
 	names := make([]string, len(cols))
 	for i, c := range cols {
 		names[i] = c.Name
@@ -18,13 +20,13 @@ func columnNames(cols []*ingest.Column) []string {
 }
 
 func TestNewDataset(t *testing.T) {
-	iris := readIris(t)
+	iris := fixture.ReadIris(t)
 	t.Run("features are the other columns in table order", func(t *testing.T) {
-		d, err := ingest.NewDataset(iris, "species", nil)
+		d, err := tabular.NewDataset(iris, "species", nil)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got, want := columnNames(d.Features), irisColumns[:4]; !slices.Equal(got, want) {
+		if got, want := columnNames(d.Features), fixture.IrisColumns[:4]; !slices.Equal(got, want) {
 			t.Errorf("features = %q, want %q", got, want)
 		}
 		for i, k := range d.Classes {
@@ -34,7 +36,7 @@ func TestNewDataset(t *testing.T) {
 		}
 	})
 	t.Run("ignored columns are not features", func(t *testing.T) {
-		d, err := ingest.NewDataset(iris, "species", []string{"sepal_width", "petal_length"})
+		d, err := tabular.NewDataset(iris, "species", []string{"sepal_width", "petal_length"})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -43,11 +45,11 @@ func TestNewDataset(t *testing.T) {
 		}
 	})
 	t.Run("any column can be the target", func(t *testing.T) {
-		d, err := ingest.NewDataset(iris, "sepal_length", []string{"species"})
+		d, err := tabular.NewDataset(iris, "sepal_length", []string{"species"})
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got, want := columnNames(d.Features), irisColumns[1:4]; !slices.Equal(got, want) {
+		if got, want := columnNames(d.Features), fixture.IrisColumns[1:4]; !slices.Equal(got, want) {
 			t.Errorf("features = %q, want %q", got, want)
 		}
 	})
@@ -58,7 +60,7 @@ func TestNewDataset(t *testing.T) {
 func TestDatasetLabelOrder(t *testing.T) {
 	// Petal width in tenths of a centimetre: whole numbers 1 to 25, whose
 	// text order ("1" < "10" < "2") differs from their numeric order.
-	tenths := editIris(t, func(c [][]string) {
+	tenths := fixture.EditIris(func(c [][]string) {
 		for r := 1; r < len(c); r++ {
 			x, err := strconv.ParseFloat(c[r][3], 64)
 			if err != nil {
@@ -70,20 +72,20 @@ func TestDatasetLabelOrder(t *testing.T) {
 	tests := []struct {
 		name    string
 		text    string
-		kinds   map[string]ingest.Kind
+		kinds   map[string]tabular.Kind
 		target  string
 		compare func(a, b string) int
 	}{
-		{"text labels in text order", string(irisBytes(t)), nil, "species", strings.Compare},
+		{"text labels in text order", string(fixture.IrisBytes()), nil, "species", strings.Compare},
 		{"numeric labels in numeric order", tenths, nil, "petal_width", compareNumbers},
-		{"numbers declared categorical still sort as numbers", tenths, map[string]ingest.Kind{"petal_width": ingest.Categorical}, "petal_width", compareNumbers},
-		{"numbers mixed with a word sort as text", editIris(t, func(c [][]string) { c[0][3], c[150][3] = "petal_width", "wide" }),
-			map[string]ingest.Kind{"petal_width": ingest.Categorical}, "petal_width", strings.Compare},
+		{"numbers declared categorical still sort as numbers", tenths, map[string]tabular.Kind{"petal_width": tabular.Categorical}, "petal_width", compareNumbers},
+		{"numbers mixed with a word sort as text", fixture.EditIris(func(c [][]string) { c[0][3], c[150][3] = "petal_width", "wide" }),
+			map[string]tabular.Kind{"petal_width": tabular.Categorical}, "petal_width", strings.Compare},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			tab := readCSVText(t, "iris.csv", tt.text, ingest.ReadOptions{Kinds: tt.kinds})
-			d, err := ingest.NewDataset(tab, tt.target, nil)
+			tab := fixture.ReadCSVText(t, "iris.csv", tt.text, ingest.ReadOptions{Kinds: tt.kinds})
+			d, err := tabular.NewDataset(tab, tt.target, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -118,9 +120,9 @@ func TestDatasetLabelTies(t *testing.T) {
 			for i := range rows {
 				text += strconv.Itoa(i) + "," + rows[(i+rotation)%len(rows)] + "\n"
 			}
-			tab := readCSVText(t, "ties.csv", text, ingest.ReadOptions{Kinds: map[string]ingest.Kind{"y": ingest.Categorical}})
+			tab := fixture.ReadCSVText(t, "ties.csv", text, ingest.ReadOptions{Kinds: map[string]tabular.Kind{"y": tabular.Categorical}})
 			for range 20 { // the labels are gathered in a map; repeat to meet its orders
-				d, err := ingest.NewDataset(tab, "y", nil)
+				d, err := tabular.NewDataset(tab, "y", nil)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -148,13 +150,13 @@ func compareNumbers(a, b string) int {
 }
 
 func TestNewDatasetErrors(t *testing.T) {
-	iris := readIris(t)
+	iris := fixture.ReadIris(t)
 	// The header and the first 50 rows, all setosa.
-	setosaOnly := readCSVText(t, "iris.csv", joinCells(irisCells(t)[:51], ",", "\n"), ingest.ReadOptions{})
-	gaps := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
+	setosaOnly := fixture.ReadCSVText(t, "iris.csv", fixture.JoinCells(fixture.IrisCells()[:51], ",", "\n"), ingest.ReadOptions{})
+	gaps := fixture.ReadCSVText(t, "iris.csv", fixture.IrisWithGaps(), ingest.ReadOptions{})
 	tests := []struct {
 		name     string
-		table    *ingest.Table
+		table    *tabular.Table
 		target   string
 		ignore   []string
 		row      int
@@ -171,8 +173,8 @@ func TestNewDatasetErrors(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			_, err := ingest.NewDataset(tt.table, tt.target, tt.ignore)
-			de := asDataError(t, err)
+			_, err := tabular.NewDataset(tt.table, tt.target, tt.ignore)
+			de := fixture.AsDataError(t, err)
 			if de.Row != tt.row || de.Column != tt.column || de.Name != tt.colName || de.File != "iris.csv" {
 				t.Errorf("error at %q row %d, column %d (%q); want iris.csv row %d, column %d (%q): %v",
 					de.File, de.Row, de.Column, de.Name, tt.row, tt.column, tt.colName, err)
@@ -185,13 +187,13 @@ func TestNewDatasetErrors(t *testing.T) {
 }
 
 func TestTargetClasses(t *testing.T) {
-	iris := readIris(t)
-	d, err := ingest.NewDataset(iris, "species", nil)
+	iris := fixture.ReadIris(t)
+	d, err := tabular.NewDataset(iris, "species", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	t.Run("the dataset's labels give its classes", func(t *testing.T) {
-		got, err := ingest.TargetClasses(iris, "species", d.Labels)
+		got, err := tabular.TargetClasses(iris, "species", d.Labels)
 		if err != nil || !slices.Equal(got, d.Classes) {
 			t.Fatalf("got %v, %v; want the dataset's classes", got, err)
 		}
@@ -199,7 +201,7 @@ func TestTargetClasses(t *testing.T) {
 	t.Run("classes follow the order of the given labels", func(t *testing.T) {
 		reversed := slices.Clone(d.Labels)
 		slices.Reverse(reversed)
-		got, err := ingest.TargetClasses(iris, "species", reversed)
+		got, err := tabular.TargetClasses(iris, "species", reversed)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -210,8 +212,8 @@ func TestTargetClasses(t *testing.T) {
 		}
 	})
 	t.Run("an unknown label names the first row that has it", func(t *testing.T) {
-		_, err := ingest.TargetClasses(iris, "species", []string{"setosa", "versicolor"})
-		de := asDataError(t, err)
+		_, err := tabular.TargetClasses(iris, "species", []string{"setosa", "versicolor"})
+		de := fixture.AsDataError(t, err)
 		if de.Row != 101 || de.Column != 5 || de.Name != "species" { // testdata/iris.csv, like UCI iris.data, lists the species in blocks of 50
 			t.Errorf("error at row %d, column %d (%q), want row 101, column 5 (species): %v", de.Row, de.Column, de.Name, err)
 		}
@@ -220,8 +222,8 @@ func TestTargetClasses(t *testing.T) {
 		}
 	})
 	t.Run("an unknown target column", func(t *testing.T) {
-		_, err := ingest.TargetClasses(iris, "class", d.Labels)
-		if de := asDataError(t, err); de.Name != "class" {
+		_, err := tabular.TargetClasses(iris, "class", d.Labels)
+		if de := fixture.AsDataError(t, err); de.Name != "class" {
 			t.Errorf("error names %q, want class: %v", de.Name, err)
 		}
 	})

@@ -1,4 +1,4 @@
-package ingest_test
+package encode_test
 
 import (
 	"encoding/json"
@@ -12,32 +12,35 @@ import (
 	"gonum.org/v1/gonum/stat"
 
 	"deltafit/ingest"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
+	"deltafit/internal/fixture"
 )
 
 // numericEncodings are every numeric encoding, parsed from its flag text.
 var numericEncodings = []string{"thermometer", "thermometer:2", "thermometer:5", "onehot", "onehot:3", "threshold", "threshold:1.5", "zscore", "minmax"}
 
-func mustNumeric(t testing.TB, s string) ingest.Encoding {
+func mustNumeric(t testing.TB, s string) encode.Encoding {
 	t.Helper()
-	e, err := ingest.ParseNumericEncoding(s)
+	e, err := encode.ParseNumericEncoding(s)
 	if err != nil {
 		t.Fatal(err)
 	}
 	return e
 }
 
-func mustCategorical(t testing.TB, s string) ingest.Encoding {
+func mustCategorical(t testing.TB, s string) encode.Encoding {
 	t.Helper()
-	e, err := ingest.ParseCategoricalEncoding(s)
+	e, err := encode.ParseCategoricalEncoding(s)
 	if err != nil {
 		t.Fatal(err)
 	}
 	return e
 }
 
-func fitPlan(t testing.TB, cols []*ingest.Column, rows []int, opts ingest.PlanOptions) *ingest.Plan {
+func fitPlan(t testing.TB, cols []*tabular.Column, rows []int, opts encode.Options) *encode.Plan {
 	t.Helper()
-	p, err := ingest.FitPlan(cols, rows, opts)
+	p, err := encode.FitPlan(cols, rows, opts)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -45,9 +48,9 @@ func fitPlan(t testing.TB, cols []*ingest.Column, rows []int, opts ingest.PlanOp
 }
 
 // firstIrisRows reads the header and the first n rows of testdata/iris.csv.
-func firstIrisRows(t testing.TB, n int) *ingest.Table {
+func firstIrisRows(t testing.TB, n int) *tabular.Table {
 	t.Helper()
-	return readCSVText(t, "iris.csv", joinCells(irisCells(t)[:n+1], ",", "\n"), ingest.ReadOptions{})
+	return fixture.ReadCSVText(t, "iris.csv", fixture.JoinCells(fixture.IrisCells()[:n+1], ",", "\n"), ingest.ReadOptions{})
 }
 
 // TestQuantileCuts checks cuts worked by hand with quantile definition 7 of
@@ -56,11 +59,11 @@ func firstIrisRows(t testing.TB, n int) *ingest.Table {
 // (cut ≥ max), are dropped.
 func TestQuantileCuts(t *testing.T) {
 	first10 := firstIrisRows(t, 10)
-	xor := readCSVText(t, "xor.csv", "x1,x2,y\n0,0,0\n0,1,1\n1,0,1\n1,1,0\n", ingest.ReadOptions{}) // XOR truth table, as testdata/xor.csv
-	const tol = 1e-12                                                                               // interpolating one-decimal values in float64 errs by ~1e-15
+	xor := fixture.ReadCSVText(t, "xor.csv", "x1,x2,y\n0,0,0\n0,1,1\n1,0,1\n1,1,0\n", ingest.ReadOptions{}) // XOR truth table, as testdata/xor.csv
+	const tol = 1e-12                                                                                       // interpolating one-decimal values in float64 errs by ~1e-15
 	tests := []struct {
 		name     string
-		col      *ingest.Column
+		col      *tabular.Column
 		encoding string
 		want     []float64
 	}{
@@ -77,7 +80,7 @@ func TestQuantileCuts(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			p := fitPlan(t, []*ingest.Column{tt.col}, nil, ingest.PlanOptions{Numeric: mustNumeric(t, tt.encoding)})
+			p := fitPlan(t, []*tabular.Column{tt.col}, nil, encode.Options{Numeric: mustNumeric(t, tt.encoding)})
 			got := p.Features[0].Cuts
 			if len(got) != len(tt.want) {
 				t.Fatalf("cuts = %v, want %v", got, tt.want)
@@ -94,8 +97,8 @@ func TestQuantileCuts(t *testing.T) {
 // TestIrisQuartiles: thermometer:4 over all 150 rows cuts at the quartiles,
 // and threshold defaults to the median.
 func TestIrisQuartiles(t *testing.T) {
-	iris := readIris(t)
-	d, err := ingest.NewDataset(iris, "species", nil)
+	iris := fixture.ReadIris(t)
+	d, err := tabular.NewDataset(iris, "species", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -108,8 +111,8 @@ func TestIrisQuartiles(t *testing.T) {
 		"petal_width":  {0.3, 1.3, 1.8},
 	}
 	const tol = 1e-12 // interpolation of two-decimal values in float64
-	thermo := fitPlan(t, d.Features, nil, ingest.PlanOptions{Numeric: mustNumeric(t, "thermometer:4")})
-	median := fitPlan(t, d.Features, nil, ingest.PlanOptions{Numeric: mustNumeric(t, "threshold")})
+	thermo := fitPlan(t, d.Features, nil, encode.Options{Numeric: mustNumeric(t, "thermometer:4")})
+	median := fitPlan(t, d.Features, nil, encode.Options{Numeric: mustNumeric(t, "threshold")})
 	for i, f := range thermo.Features {
 		t.Run(f.Column, func(t *testing.T) {
 			want := quartiles[f.Column]
@@ -161,8 +164,8 @@ func TestEncodeHandWorked(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.encoding, func(t *testing.T) {
-			cols := []*ingest.Column{col}
-			p := fitPlan(t, cols, nil, ingest.PlanOptions{Numeric: mustNumeric(t, tt.encoding)})
+			cols := []*tabular.Column{col}
+			p := fitPlan(t, cols, nil, encode.Options{Numeric: mustNumeric(t, tt.encoding)})
 			patterns, _ := p.EncodeTo(nil, cols, nil)
 			w := p.Width()
 			for r := range col.Len() {
@@ -177,15 +180,15 @@ func TestEncodeHandWorked(t *testing.T) {
 // TestEncodeContinuous: zscore is (x−mean)/sd and minmax (x−min)/(max−min)
 // clipped to [0,1], with the statistics of the fitting rows.
 func TestEncodeContinuous(t *testing.T) {
-	iris := readIris(t)
+	iris := fixture.ReadIris(t)
 	col := iris.Column("petal_length")
-	cols := []*ingest.Column{col}
+	cols := []*tabular.Column{col}
 	setosa := make([]int, 50) // rows 1–50 are setosa in testdata/iris.csv
 	for i := range setosa {
 		setosa[i] = i
 	}
 	t.Run("zscore", func(t *testing.T) {
-		p := fitPlan(t, cols, nil, ingest.PlanOptions{Numeric: mustNumeric(t, "zscore")})
+		p := fitPlan(t, cols, nil, encode.Options{Numeric: mustNumeric(t, "zscore")})
 		f := p.Features[0]
 		mean, sd := stat.MeanStdDev(col.Numbers, nil) // gonum, an independent computation
 		const tol = 1e-12                             // two summation orders of 150 values
@@ -206,7 +209,7 @@ func TestEncodeContinuous(t *testing.T) {
 		}
 	})
 	t.Run("minmax fitted on setosa, applied to all rows", func(t *testing.T) {
-		p := fitPlan(t, cols, setosa, ingest.PlanOptions{Numeric: mustNumeric(t, "minmax")})
+		p := fitPlan(t, cols, setosa, encode.Options{Numeric: mustNumeric(t, "minmax")})
 		f := p.Features[0]
 		lo, hi := slices.Min(col.Numbers[:50]), slices.Max(col.Numbers[:50])
 		if f.Center != lo || f.Scale != hi-lo {
@@ -228,7 +231,7 @@ func TestEncodeContinuous(t *testing.T) {
 	t.Run("a constant column encodes 0", func(t *testing.T) {
 		for _, enc := range []string{"zscore", "minmax"} {
 			rows := []int{0, 1, 4} // petal length 1.4 in rows 1, 2, 5
-			p := fitPlan(t, cols, rows, ingest.PlanOptions{Numeric: mustNumeric(t, enc)})
+			p := fitPlan(t, cols, rows, encode.Options{Numeric: mustNumeric(t, enc)})
 			patterns, _ := p.EncodeTo(nil, cols, []int{0, 2, 149})
 			if p.Features[0].Scale != 0 || slices.ContainsFunc(patterns, func(v float64) bool { return v != 0 }) {
 				t.Errorf("%s: scale %v, patterns %v; want 0 and all zero", enc, p.Features[0].Scale, patterns)
@@ -239,10 +242,10 @@ func TestEncodeContinuous(t *testing.T) {
 
 // TestEncodeCategorical: a category gets a unit when it appears at least MIN
 // times in the fitting rows; other values go to the "other" unit and are
-// counted in EncodeStats.Other.
+// counted in Stats.Other.
 func TestEncodeCategorical(t *testing.T) {
-	species := readIris(t).Column("species")
-	cols := []*ingest.Column{species}
+	species := fixture.ReadIris(t).Column("species")
+	cols := []*tabular.Column{species}
 	first60 := make([]int, 60) // 50 setosa, then 10 versicolor
 	for i := range first60 {
 		first60[i] = i
@@ -261,7 +264,7 @@ func TestEncodeCategorical(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			p := fitPlan(t, cols, tt.rows, ingest.PlanOptions{Categorical: mustCategorical(t, tt.encoding)})
+			p := fitPlan(t, cols, tt.rows, encode.Options{Categorical: mustCategorical(t, tt.encoding)})
 			f := p.Features[0]
 			if !slices.Equal(f.Categories, tt.categories) {
 				t.Fatalf("categories = %q, want %q", f.Categories, tt.categories)
@@ -296,19 +299,19 @@ func TestEncodeCategorical(t *testing.T) {
 
 // TestEncodeMissing: a missing-indicator unit follows the value units only
 // when the fitting rows have a missing cell; otherwise missing cells encode
-// with every unit off and are counted in EncodeStats.MissingNoUnit.
+// with every unit off and are counted in Stats.MissingNoUnit.
 func TestEncodeMissing(t *testing.T) {
-	tab := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
-	cols := []*ingest.Column{tab.Column("sepal_width"), tab.Column("species"), tab.Column("is_setosa")}
+	tab := fixture.ReadCSVText(t, "iris.csv", fixture.IrisWithGaps(), ingest.ReadOptions{})
+	cols := []*tabular.Column{tab.Column("sepal_width"), tab.Column("species"), tab.Column("is_setosa")}
 	var complete []int // rows with no missing cell
 	for r := range tab.Rows {
-		if !slices.ContainsFunc(cols, func(c *ingest.Column) bool { return c.IsMissing(r) }) {
+		if !slices.ContainsFunc(cols, func(c *tabular.Column) bool { return c.IsMissing(r) }) {
 			complete = append(complete, r)
 		}
 	}
 	for _, enc := range numericEncodings {
 		t.Run(enc, func(t *testing.T) {
-			opts := ingest.PlanOptions{Numeric: mustNumeric(t, enc)}
+			opts := encode.Options{Numeric: mustNumeric(t, enc)}
 			withGaps := fitPlan(t, cols, nil, opts)
 			for i, f := range withGaps.Features {
 				wantUnit := cols[i].Missing != nil // sepal_width and species have gaps, is_setosa none
@@ -339,7 +342,7 @@ func TestEncodeMissing(t *testing.T) {
 				}
 			}
 			patterns, stats = noGaps.EncodeTo(nil, cols, nil)
-			want := map[string]ingest.Surprise{
+			want := map[string]encode.Surprise{
 				"sepal_width": {Count: 15, FirstRow: slices.Index(cols[0].Missing, true) + 1},
 				"species":     {Count: 1, FirstRow: slices.Index(cols[1].Missing, true) + 1},
 			}
@@ -358,11 +361,11 @@ func TestEncodeMissing(t *testing.T) {
 
 // allPlanOptions pairs every numeric encoding with categorical onehot:1
 // and onehot:30.
-func allPlanOptions(t testing.TB) map[string]ingest.PlanOptions {
-	all := map[string]ingest.PlanOptions{}
+func allPlanOptions(t testing.TB) map[string]encode.Options {
+	all := map[string]encode.Options{}
 	for _, num := range numericEncodings {
 		for _, cat := range []string{"onehot", "onehot:30"} {
-			all[num+"/"+cat] = ingest.PlanOptions{Numeric: mustNumeric(t, num), Categorical: mustCategorical(t, cat)}
+			all[num+"/"+cat] = encode.Options{Numeric: mustNumeric(t, num), Categorical: mustCategorical(t, cat)}
 		}
 	}
 	return all
@@ -370,8 +373,8 @@ func allPlanOptions(t testing.TB) map[string]ingest.PlanOptions {
 
 // eachIrisPlan runs check as a subtest for a plan of every encoding of
 // allPlanOptions, fitted on all rows of Iris with gaps.
-func eachIrisPlan(t *testing.T, check func(t *testing.T, tab *ingest.Table, p *ingest.Plan)) {
-	tab := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
+func eachIrisPlan(t *testing.T, check func(t *testing.T, tab *tabular.Table, p *encode.Plan)) {
+	tab := fixture.ReadCSVText(t, "iris.csv", fixture.IrisWithGaps(), ingest.ReadOptions{})
 	for name, opts := range allPlanOptions(t) {
 		t.Run(name, func(t *testing.T) { check(t, tab, fitPlan(t, tab.Columns, nil, opts)) })
 	}
@@ -381,7 +384,7 @@ func eachIrisPlan(t *testing.T, check func(t *testing.T, tab *ingest.Table, p *i
 // of every encoding is in [0,1] except zscore; one-hot features have exactly
 // one unit on; thermometer units are on up to some k and off above it.
 func TestEncodeUnitRange(t *testing.T) {
-	eachIrisPlan(t, func(t *testing.T, tab *ingest.Table, p *ingest.Plan) {
+	eachIrisPlan(t, func(t *testing.T, tab *tabular.Table, p *encode.Plan) {
 		if len(p.UnitNames()) != p.Width() {
 			t.Fatalf("%d unit names for width %d", len(p.UnitNames()), p.Width())
 		}
@@ -407,8 +410,8 @@ func TestEncodeUnitRange(t *testing.T) {
 	})
 }
 
-func checkUnits(f ingest.Feature, values []float64, missing bool) error {
-	if f.Method != ingest.ZScore {
+func checkUnits(f encode.Feature, values []float64, missing bool) error {
+	if f.Method != encode.ZScore {
 		for _, v := range values {
 			if v < 0 || v > 1 {
 				return fmt.Errorf("%s unit %v outside [0,1]", f.Method, v)
@@ -426,11 +429,11 @@ func checkUnits(f ingest.Feature, values []float64, missing bool) error {
 		if slices.ContainsFunc(values, func(v float64) bool { return v != 0 }) {
 			return fmt.Errorf("a missing cell has value units %v", values)
 		}
-	case f.Method == ingest.OneHot || f.Method == ingest.OneHotBins:
+	case f.Method == encode.OneHot || f.Method == encode.OneHotBins:
 		if on != 1 || len(values) != on+countZeros(values) {
 			return fmt.Errorf("one-hot units %v", values)
 		}
-	case f.Method == ingest.Thermometer:
+	case f.Method == encode.Thermometer:
 		if !slices.Equal(values[:on], slices.Repeat([]float64{1}, on)) || countZeros(values) != len(values)-on {
 			return fmt.Errorf("thermometer units %v", values)
 		}
@@ -449,8 +452,8 @@ func countZeros(values []float64) int {
 }
 
 // cloneTable deep-copies a table so a test can change cells.
-func cloneTable(t *ingest.Table) *ingest.Table {
-	c := &ingest.Table{Name: t.Name, Rows: t.Rows}
+func cloneTable(t *tabular.Table) *tabular.Table {
+	c := &tabular.Table{Name: t.Name, Rows: t.Rows}
 	for _, col := range t.Columns {
 		cc := *col
 		cc.Numbers, cc.Text, cc.Missing = slices.Clone(col.Numbers), slices.Clone(col.Text), slices.Clone(col.Missing)
@@ -464,27 +467,27 @@ func cloneTable(t *ingest.Table) *ingest.Table {
 // value, an unseen category or a missing cell leaves the plan unchanged,
 // while the same change to a training row changes it (so the check can fail).
 func TestPlanNoLeakage(t *testing.T) {
-	base := readCSVText(t, "iris.csv", irisWithGaps(t), ingest.ReadOptions{})
+	base := fixture.ReadCSVText(t, "iris.csv", fixture.IrisWithGaps(), ingest.ReadOptions{})
 	var train []int
 	for r := range base.Rows {
 		if r%50 < 40 {
 			train = append(train, r)
 		}
 	}
-	extreme := func(tab *ingest.Table, row int) {
+	extreme := func(tab *tabular.Table, row int) {
 		for _, col := range tab.Columns {
 			switch col.Kind {
-			case ingest.Numeric:
+			case tabular.Numeric:
 				col.Numbers[row] = 1e6
 				if col.Missing != nil {
 					col.Missing[row] = false
 				}
-			case ingest.Categorical:
+			case tabular.Categorical:
 				col.Text[row] = "unseen"
 				if col.Missing != nil {
 					col.Missing[row] = false
 				}
-			case ingest.Boolean:
+			case tabular.Boolean:
 				if col.Missing == nil {
 					col.Missing = make([]bool, tab.Rows)
 				}
@@ -516,20 +519,20 @@ func TestPlanNoLeakage(t *testing.T) {
 // TestPlanBind encodes a table whose columns are in another order the same
 // as the table the plan was fitted on, and reports missing or changed columns.
 func TestPlanBind(t *testing.T) {
-	iris := readIris(t)
-	d, err := ingest.NewDataset(iris, "species", nil)
+	iris := fixture.ReadIris(t)
+	d, err := tabular.NewDataset(iris, "species", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	p := fitPlan(t, append(slices.Clone(d.Features), iris.Column("species")), nil, ingest.PlanOptions{})
+	p := fitPlan(t, append(slices.Clone(d.Features), iris.Column("species")), nil, encode.Options{})
 	want, _ := p.EncodeTo(nil, append(slices.Clone(d.Features), iris.Column("species")), nil)
 
-	reversed := irisCells(t)
+	reversed := fixture.IrisCells()
 	for _, row := range reversed {
 		slices.Reverse(row)
 	}
 	t.Run("columns found by name", func(t *testing.T) {
-		other := readCSVText(t, "reversed.csv", joinCells(reversed, ",", "\n"), ingest.ReadOptions{Kinds: p.Kinds()})
+		other := fixture.ReadCSVText(t, "reversed.csv", fixture.JoinCells(reversed, ",", "\n"), ingest.ReadOptions{Kinds: p.Kinds()})
 		cols, err := p.Bind(other)
 		if err != nil {
 			t.Fatal(err)
@@ -541,19 +544,19 @@ func TestPlanBind(t *testing.T) {
 	tests := []struct {
 		name     string
 		text     string
-		kinds    map[string]ingest.Kind
+		kinds    map[string]tabular.Kind
 		column   int
 		colName  string
 		contains string
 	}{
-		{"missing column", joinCells(firstColumns(irisCells(t), 3), ",", "\n"), nil, 0, "petal_width", "does not have it"},
-		{"wrong kind", string(irisBytes(t)), map[string]ingest.Kind{"sepal_width": ingest.Categorical}, 2, "sepal_width", "categorical here but numeric"},
+		{"missing column", fixture.JoinCells(firstColumns(fixture.IrisCells(), 3), ",", "\n"), nil, 0, "petal_width", "does not have it"},
+		{"wrong kind", string(fixture.IrisBytes()), map[string]tabular.Kind{"sepal_width": tabular.Categorical}, 2, "sepal_width", "categorical here but numeric"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			other := readCSVText(t, "new.csv", tt.text, ingest.ReadOptions{Kinds: tt.kinds})
+			other := fixture.ReadCSVText(t, "new.csv", tt.text, ingest.ReadOptions{Kinds: tt.kinds})
 			_, err := p.Bind(other)
-			de := asDataError(t, err)
+			de := fixture.AsDataError(t, err)
 			if de.File != "new.csv" || de.Column != tt.column || de.Name != tt.colName || !strings.Contains(err.Error(), tt.contains) {
 				t.Errorf("got %q (column %d, %q), want column %d (%q) saying %q", err, de.Column, de.Name, tt.column, tt.colName, tt.contains)
 			}
@@ -573,12 +576,12 @@ func firstColumns(cells [][]string, n int) [][]string {
 // TestPlanJSON: a plan written to JSON and read back is the same plan and
 // encodes every row identically.
 func TestPlanJSON(t *testing.T) {
-	eachIrisPlan(t, func(t *testing.T, tab *ingest.Table, p *ingest.Plan) {
+	eachIrisPlan(t, func(t *testing.T, tab *tabular.Table, p *encode.Plan) {
 		data, err := json.Marshal(p)
 		if err != nil {
 			t.Fatal(err)
 		}
-		var back ingest.Plan
+		var back encode.Plan
 		if err := json.Unmarshal(data, &back); err != nil {
 			t.Fatal(err)
 		}
@@ -599,8 +602,8 @@ func TestPlanJSON(t *testing.T) {
 // TestEncodeToRows: encoding a subset of rows gives those rows of the full
 // encoding, and a large enough dst is reused.
 func TestEncodeToRows(t *testing.T) {
-	iris := readIris(t)
-	p := fitPlan(t, iris.Columns, nil, ingest.PlanOptions{})
+	iris := fixture.ReadIris(t)
+	p := fitPlan(t, iris.Columns, nil, encode.Options{})
 	all, _ := p.EncodeTo(nil, iris.Columns, nil)
 	rows := []int{149, 0, 75}
 	dst := make([]float64, 0, len(all))
@@ -620,21 +623,21 @@ func TestEncodeToRows(t *testing.T) {
 // MaxCategories is an error unless MIN leaves few enough.
 func TestCategoryCap(t *testing.T) {
 	// Iris seven times over (1050 rows) with a row id, distinct in every row.
-	cells := irisCells(t)
+	cells := fixture.IrisCells()
 	rows := [][]string{append(slices.Clone(cells[0]), "id")}
 	for copyN := range 7 {
 		for r, row := range cells[1:] {
 			rows = append(rows, append(slices.Clone(row), fmt.Sprintf("iris-%d-%d", copyN, r+1)))
 		}
 	}
-	tab := readCSVText(t, "iris7.csv", joinCells(rows, ",", "\n"), ingest.ReadOptions{})
-	id := []*ingest.Column{tab.Column("id")}
-	_, err := ingest.FitPlan(id, nil, ingest.PlanOptions{})
-	de := asDataError(t, err)
-	if de.Name != "id" || !strings.Contains(err.Error(), fmt.Sprintf("cap of %d", ingest.MaxCategories)) {
+	tab := fixture.ReadCSVText(t, "iris7.csv", fixture.JoinCells(rows, ",", "\n"), ingest.ReadOptions{})
+	id := []*tabular.Column{tab.Column("id")}
+	_, err := encode.FitPlan(id, nil, encode.Options{})
+	de := fixture.AsDataError(t, err)
+	if de.Name != "id" || !strings.Contains(err.Error(), fmt.Sprintf("cap of %d", encode.MaxCategories)) {
 		t.Errorf("got %q, want the cap error naming column id", err)
 	}
-	p, err := ingest.FitPlan(id, nil, ingest.PlanOptions{Categorical: mustCategorical(t, "onehot:2")})
+	p, err := encode.FitPlan(id, nil, encode.Options{Categorical: mustCategorical(t, "onehot:2")})
 	if err != nil {
 		t.Fatalf("onehot:2: %v", err)
 	}
@@ -647,27 +650,27 @@ func TestParseEncoding(t *testing.T) {
 	cut := 1.5
 	numeric := []struct {
 		in      string
-		want    ingest.Encoding
+		want    encode.Encoding
 		wantErr bool
 	}{
-		{"thermometer", ingest.Encoding{Method: ingest.Thermometer, Bins: ingest.DefaultBins}, false},
-		{"thermometer:2", ingest.Encoding{Method: ingest.Thermometer, Bins: 2}, false},
-		{"onehot:256", ingest.Encoding{Method: ingest.OneHotBins, Bins: 256}, false},
-		{"threshold", ingest.Encoding{Method: ingest.Threshold}, false},
-		{"threshold:1.5", ingest.Encoding{Method: ingest.Threshold, Cut: &cut}, false},
-		{"zscore", ingest.Encoding{Method: ingest.ZScore}, false},
-		{"minmax", ingest.Encoding{Method: ingest.MinMax}, false},
-		{"thermometer:1", ingest.Encoding{}, true},
-		{"onehot:257", ingest.Encoding{}, true},
-		{"thermometer:x", ingest.Encoding{}, true},
-		{"threshold:NaN", ingest.Encoding{}, true},
-		{"threshold:Inf", ingest.Encoding{}, true},
-		{"zscore:2", ingest.Encoding{}, true},
-		{"binary", ingest.Encoding{}, true},
+		{"thermometer", encode.Encoding{Method: encode.Thermometer, Bins: encode.DefaultBins}, false},
+		{"thermometer:2", encode.Encoding{Method: encode.Thermometer, Bins: 2}, false},
+		{"onehot:256", encode.Encoding{Method: encode.OneHotBins, Bins: 256}, false},
+		{"threshold", encode.Encoding{Method: encode.Threshold}, false},
+		{"threshold:1.5", encode.Encoding{Method: encode.Threshold, Cut: &cut}, false},
+		{"zscore", encode.Encoding{Method: encode.ZScore}, false},
+		{"minmax", encode.Encoding{Method: encode.MinMax}, false},
+		{"thermometer:1", encode.Encoding{}, true},
+		{"onehot:257", encode.Encoding{}, true},
+		{"thermometer:x", encode.Encoding{}, true},
+		{"threshold:NaN", encode.Encoding{}, true},
+		{"threshold:Inf", encode.Encoding{}, true},
+		{"zscore:2", encode.Encoding{}, true},
+		{"binary", encode.Encoding{}, true},
 	}
 	for _, tt := range numeric {
 		t.Run("numeric "+tt.in, func(t *testing.T) {
-			got, err := ingest.ParseNumericEncoding(tt.in)
+			got, err := encode.ParseNumericEncoding(tt.in)
 			if tt.wantErr {
 				if err == nil || !strings.HasPrefix(err.Error(), "ingest: ") {
 					t.Errorf("got %+v, %v; want an ingest error", got, err)
@@ -692,8 +695,8 @@ func TestParseEncoding(t *testing.T) {
 	}
 	for _, tt := range categorical {
 		t.Run("categorical "+tt.in, func(t *testing.T) {
-			got, err := ingest.ParseCategoricalEncoding(tt.in)
-			if (err != nil) != tt.wantErr || !tt.wantErr && (got.Method != ingest.OneHot || got.Min != tt.min) {
+			got, err := encode.ParseCategoricalEncoding(tt.in)
+			if (err != nil) != tt.wantErr || !tt.wantErr && (got.Method != encode.OneHot || got.Min != tt.min) {
 				t.Errorf("got %+v, %v; want MIN %d, error %v", got, err, tt.min, tt.wantErr)
 			}
 		})

@@ -1,4 +1,4 @@
-package ingest
+package encode
 
 import (
 	"errors"
@@ -8,6 +8,8 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+
+	"deltafit/ingest/tabular"
 )
 
 // Numeric encodings.
@@ -90,14 +92,14 @@ func ParseCategoricalEncoding(s string) (Encoding, error) {
 	return e, nil
 }
 
-// PlanOptions chooses the encodings. The zero value means thermometer:8 for
+// Options chooses the encodings. The zero value means thermometer:8 for
 // numeric columns and onehot:1 for categorical ones.
-type PlanOptions struct {
+type Options struct {
 	Numeric     Encoding
 	Categorical Encoding
 }
 
-func (o PlanOptions) withDefaults() PlanOptions {
+func (o Options) withDefaults() Options {
 	if o.Numeric.Method == "" {
 		o.Numeric = Encoding{Method: Thermometer, Bins: DefaultBins}
 	}
@@ -116,14 +118,14 @@ type Plan struct {
 
 // Feature is the fitted encoding of one column.
 type Feature struct {
-	Column     string    `json:"column"`
-	Kind       Kind      `json:"kind"`
-	Method     string    `json:"method"`
-	Cuts       []float64 `json:"cuts,omitempty"`       // thermometer, onehot bins, threshold
-	Center     float64   `json:"center,omitempty"`     // zscore mean, minmax minimum
-	Scale      float64   `json:"scale,omitempty"`      // zscore sd, minmax range; 0 for a constant column
-	Categories []string  `json:"categories,omitempty"` // categorical onehot, sorted; an "other" unit follows
-	Missing    bool      `json:"missing_unit"`         // a missing-indicator unit follows the value units
+	Column     string       `json:"column"`
+	Kind       tabular.Kind `json:"kind"`
+	Method     string       `json:"method"`
+	Cuts       []float64    `json:"cuts,omitempty"`       // thermometer, onehot bins, threshold
+	Center     float64      `json:"center,omitempty"`     // zscore mean, minmax minimum
+	Scale      float64      `json:"scale,omitempty"`      // zscore sd, minmax range; 0 for a constant column
+	Categories []string     `json:"categories,omitempty"` // categorical onehot, sorted; an "other" unit follows
+	Missing    bool         `json:"missing_unit"`         // a missing-indicator unit follows the value units
 }
 
 // Width is the number of input units of the feature.
@@ -136,7 +138,7 @@ func (f *Feature) valueUnits() int {
 	case Thermometer, Threshold:
 		return len(f.Cuts)
 	case OneHotBins:
-		if f.Kind == Categorical {
+		if f.Kind == tabular.Categorical {
 			return len(f.Categories) + 1
 		}
 		return len(f.Cuts) + 1
@@ -148,7 +150,7 @@ func (f *Feature) valueUnits() int {
 func (f *Feature) UnitNames() []string {
 	names := make([]string, 0, f.Width())
 	switch {
-	case f.Kind == Categorical:
+	case f.Kind == tabular.Categorical:
 		for _, c := range f.Categories {
 			names = append(names, f.Column+"="+c)
 		}
@@ -196,7 +198,7 @@ func (p *Plan) UnitNames() []string {
 // FitPlan fits an encoding of the feature columns on the given rows only
 // (0-based; nil means all rows). Cuts, means and category lists come from
 // those rows alone.
-func FitPlan(features []*Column, rows []int, opts PlanOptions) (*Plan, error) {
+func FitPlan(features []*tabular.Column, rows []int, opts Options) (*Plan, error) {
 	opts = opts.withDefaults()
 	p := &Plan{Features: make([]Feature, 0, len(features))}
 	for _, col := range features {
@@ -220,7 +222,7 @@ func allRows(n int) []int {
 	return rows
 }
 
-func fitFeature(col *Column, rows []int, opts PlanOptions) (Feature, error) {
+func fitFeature(col *tabular.Column, rows []int, opts Options) (Feature, error) {
 	f := Feature{Column: col.Name, Kind: col.Kind}
 	for _, r := range rows {
 		if col.IsMissing(r) {
@@ -229,9 +231,9 @@ func fitFeature(col *Column, rows []int, opts PlanOptions) (Feature, error) {
 		}
 	}
 	switch col.Kind {
-	case Boolean:
+	case tabular.Boolean:
 		f.Method = Flag
-	case Categorical:
+	case tabular.Categorical:
 		f.Method = OneHot
 		counts := map[string]int{}
 		for _, r := range rows {
@@ -245,7 +247,7 @@ func fitFeature(col *Column, rows []int, opts PlanOptions) (Feature, error) {
 			}
 		}
 		if len(f.Categories) > MaxCategories {
-			return f, &DataError{Name: col.Name, Err: fmt.Errorf("%d distinct values reach the least count %d, over the cap of %d per categorical column; is it an identifier to ignore, or should rare values share the other unit (a higher MIN)?",
+			return f, &tabular.DataError{Name: col.Name, Err: fmt.Errorf("%d distinct values reach the least count %d, over the cap of %d per categorical column; is it an identifier to ignore, or should rare values share the other unit (a higher MIN)?",
 				len(f.Categories), opts.Categorical.Min, MaxCategories)}
 		}
 		slices.Sort(f.Categories)
@@ -272,13 +274,13 @@ func fitFeature(col *Column, rows []int, opts PlanOptions) (Feature, error) {
 			return f, fmt.Errorf("ingest: unknown numeric encoding %q", f.Method)
 		}
 		if math.IsInf(f.Center, 0) || math.IsInf(f.Scale, 0) || math.IsNaN(f.Scale) {
-			return f, &DataError{Name: col.Name, Err: fmt.Errorf("the values span more than a 64-bit float holds, which the %s encoding cannot scale; rescale the column or use thermometer", f.Method)}
+			return f, &tabular.DataError{Name: col.Name, Err: fmt.Errorf("the values span more than a 64-bit float holds, which the %s encoding cannot scale; rescale the column or use thermometer", f.Method)}
 		}
 	}
 	return f, nil
 }
 
-func presentValues(col *Column, rows []int) []float64 {
+func presentValues(col *tabular.Column, rows []int) []float64 {
 	values := make([]float64, 0, len(rows))
 	for _, r := range rows {
 		if !col.IsMissing(r) {
@@ -367,16 +369,16 @@ func boolInt(b bool) int {
 
 // Bind finds the plan's columns in t by name and checks their kinds, so the
 // plan can encode rows of a table other than the one it was fitted on.
-func (p *Plan) Bind(t *Table) ([]*Column, error) {
-	cols := make([]*Column, len(p.Features))
+func (p *Plan) Bind(t *tabular.Table) ([]*tabular.Column, error) {
+	cols := make([]*tabular.Column, len(p.Features))
 	for i := range p.Features {
 		f := &p.Features[i]
 		c := t.Column(f.Column)
 		if c == nil {
-			return nil, &DataError{File: t.Name, Name: f.Column, Err: errors.New("the model needs this column but the input does not have it")}
+			return nil, &tabular.DataError{File: t.Name, Name: f.Column, Err: errors.New("the model needs this column but the input does not have it")}
 		}
 		if c.Kind != f.Kind {
-			return nil, &DataError{File: t.Name, Column: t.columnIndex(f.Column) + 1, Name: f.Column,
+			return nil, &tabular.DataError{File: t.Name, Column: t.Index(f.Column) + 1, Name: f.Column,
 				Err: fmt.Errorf("the column is %s here but %s in the model's training data", c.Kind, f.Kind)}
 		}
 		cols[i] = c
@@ -386,16 +388,16 @@ func (p *Plan) Bind(t *Table) ([]*Column, error) {
 
 // Kinds returns the column kinds the plan expects, for reading new data
 // with the same kinds as the training data.
-func (p *Plan) Kinds() map[string]Kind {
-	kinds := make(map[string]Kind, len(p.Features))
+func (p *Plan) Kinds() map[string]tabular.Kind {
+	kinds := make(map[string]tabular.Kind, len(p.Features))
 	for _, f := range p.Features {
 		kinds[f.Column] = f.Kind
 	}
 	return kinds
 }
 
-// EncodeStats counts what encoding met that the plan was not fitted on.
-type EncodeStats struct {
+// Stats counts what encoding met that the plan was not fitted on.
+type Stats struct {
 	// Other counts, per column, values outside the plan's category list
 	// (unseen, or too rare in training to get a unit), which go to the
 	// "other" unit.
@@ -411,7 +413,7 @@ type Surprise struct {
 	FirstRow int // 1-based data row of the first such cell
 }
 
-func (s *EncodeStats) add(m *map[string]Surprise, col string, row int) {
+func (s *Stats) add(m *map[string]Surprise, col string, row int) {
 	merge(m, col, Surprise{Count: 1, FirstRow: row + 1})
 }
 
@@ -428,7 +430,7 @@ func merge(m *map[string]Surprise, col string, s Surprise) {
 }
 
 // Merge adds the counts of other, as when rows are encoded in blocks.
-func (s *EncodeStats) Merge(other EncodeStats) {
+func (s *Stats) Merge(other Stats) {
 	for col, n := range other.Other {
 		merge(&s.Other, col, n)
 	}
@@ -441,7 +443,7 @@ func (s *EncodeStats) Merge(other EncodeStats) {
 // into dst, row-major with Width values per row, and returns dst. cols are
 // the plan's columns as returned by Bind, or the features it was fitted on.
 // It panics if len(cols) differs from the number of features.
-func (p *Plan) EncodeTo(dst []float64, cols []*Column, rows []int) ([]float64, EncodeStats) {
+func (p *Plan) EncodeTo(dst []float64, cols []*tabular.Column, rows []int) ([]float64, Stats) {
 	if len(cols) != len(p.Features) {
 		panic("ingest: EncodeTo needs one column per feature")
 	}
@@ -451,7 +453,7 @@ func (p *Plan) EncodeTo(dst []float64, cols []*Column, rows []int) ([]float64, E
 	width := p.Width()
 	dst = slices.Grow(dst[:0], len(rows)*width)[:len(rows)*width]
 	clear(dst)
-	var stats EncodeStats
+	var stats Stats
 	for n, r := range rows {
 		unit := dst[n*width : (n+1)*width]
 		for i := range p.Features {
@@ -465,7 +467,7 @@ func (p *Plan) EncodeTo(dst []float64, cols []*Column, rows []int) ([]float64, E
 }
 
 // encode writes one cell into its units, which arrive zeroed.
-func (f *Feature) encode(units []float64, col *Column, row int, stats *EncodeStats) {
+func (f *Feature) encode(units []float64, col *tabular.Column, row int, stats *Stats) {
 	if col.IsMissing(row) {
 		if f.Missing {
 			units[len(units)-1] = 1
@@ -478,7 +480,7 @@ func (f *Feature) encode(units []float64, col *Column, row int, stats *EncodeSta
 	case Flag:
 		units[0] = col.Numbers[row]
 	case OneHot:
-		if f.Kind == Categorical {
+		if f.Kind == tabular.Categorical {
 			v := col.Text[row]
 			i, found := slices.BinarySearch(f.Categories, v)
 			if !found {
@@ -562,15 +564,15 @@ func (f *Feature) validate() error {
 		}
 	}
 	switch {
-	case f.Kind == Categorical && f.Method == OneHot:
-	case f.Kind == Boolean && f.Method == Flag:
-	case f.Kind == Numeric && (f.Method == Thermometer || f.Method == OneHotBins):
-	case f.Kind == Numeric && f.Method == Threshold && len(f.Cuts) == 1:
-	case f.Kind == Numeric && (f.Method == ZScore || f.Method == MinMax) && f.Scale >= 0:
+	case f.Kind == tabular.Categorical && f.Method == OneHot:
+	case f.Kind == tabular.Boolean && f.Method == Flag:
+	case f.Kind == tabular.Numeric && (f.Method == Thermometer || f.Method == OneHotBins):
+	case f.Kind == tabular.Numeric && f.Method == Threshold && len(f.Cuts) == 1:
+	case f.Kind == tabular.Numeric && (f.Method == ZScore || f.Method == MinMax) && f.Scale >= 0:
 	default:
 		return fmt.Errorf("method %q does not fit a %s column with these parameters", f.Method, f.Kind)
 	}
-	if f.Kind != Categorical && len(f.Categories) > 0 {
+	if f.Kind != tabular.Categorical && len(f.Categories) > 0 {
 		return errors.New("only categorical features have categories")
 	}
 	return nil

@@ -1,4 +1,4 @@
-package ingest
+package tabular
 
 import (
 	"cmp"
@@ -39,7 +39,7 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 		return nil, err
 	}
 	if len(labels) < 2 {
-		return nil, &DataError{File: t.Name, Column: t.columnIndex(target) + 1, Name: target,
+		return nil, &DataError{File: t.Name, Column: t.Index(target) + 1, Name: target,
 			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", labels[0])}
 	}
 	d := &Dataset{Table: t, Target: target, Labels: labels, Classes: classes}
@@ -48,7 +48,7 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 			continue
 		}
 		if c.MissingCount() == t.Rows {
-			return nil, &DataError{File: t.Name, Column: t.columnIndex(c.Name) + 1, Name: c.Name,
+			return nil, &DataError{File: t.Name, Column: t.Index(c.Name) + 1, Name: c.Name,
 				Err: errors.New("every cell of the column is missing; fill it in or ignore the column")}
 		}
 		d.Features = append(d.Features, c)
@@ -89,7 +89,7 @@ func TargetClasses(t *Table, target string, labels []string) ([]int, error) {
 		}
 		k, ok := index[col.Value(i)]
 		if !ok {
-			return nil, &DataError{File: t.Name, Row: i + 1, Column: t.columnIndex(target) + 1, Name: target,
+			return nil, &DataError{File: t.Name, Row: i + 1, Column: t.Index(target) + 1, Name: target,
 				Err: fmt.Errorf("class %q is not one the model was trained on (%s)", col.Value(i), quoteList(labels))}
 		}
 		classes[i] = k
@@ -115,7 +115,7 @@ func targetClasses(t *Table, col *Column) ([]string, []int, error) {
 }
 
 func missingTarget(t *Table, col *Column, row int) error {
-	return &DataError{File: t.Name, Row: row + 1, Column: t.columnIndex(col.Name) + 1, Name: col.Name,
+	return &DataError{File: t.Name, Row: row + 1, Column: t.Index(col.Name) + 1, Name: col.Name,
 		Err: errors.New("the target cell is missing; every row needs a class (drop the row or fill it in)")}
 }
 

@@ -1,0 +1,46 @@
+package layout_test
+
+import (
+	"os/exec"
+	"strings"
+	"testing"
+)
+
+// deps lists the packages that pkgs import, directly or not, with go list.
+func deps(t *testing.T, pkgs ...string) []string {
+	t.Helper()
+	args := append([]string{"list", "-deps"}, pkgs...)
+	out, err := exec.Command("go", args...).Output()
+	if err != nil {
+		t.Skipf("go list is not available here: %v", err)
+	}
+	return strings.Fields(string(out))
+}
+
+// TestImportDirection checks the rules of DEVELOPERS.md's layout section.
+func TestImportDirection(t *testing.T) {
+	for _, tc := range []struct {
+		name      string
+		pkgs      []string
+		forbidden []string // prefixes of import paths none of pkgs may reach
+	}{
+		{"the core needs no Arrow", []string{"deltafit/fit", "deltafit/evaluate/...", "deltafit/ingest/tabular", "deltafit/ingest/encode"},
+			[]string{"github.com/apache/arrow-go", "github.com/spf13/cobra", "github.com/olekukonko/tablewriter"}},
+		{"fit needs only the standard library and gonum", []string{"deltafit/fit"},
+			[]string{"deltafit/ingest", "deltafit/evaluate", "deltafit/export"}},
+		{"only cmd imports cobra", []string{"deltafit/ingest/...", "deltafit/export/...", "deltafit/internal/..."},
+			[]string{"github.com/spf13/cobra"}},
+		{"only export imports tablewriter", []string{"deltafit/ingest/...", "deltafit/evaluate/...", "deltafit/fit/..."},
+			[]string{"github.com/olekukonko/tablewriter"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			for _, dep := range deps(t, tc.pkgs...) {
+				for _, bad := range tc.forbidden {
+					if strings.HasPrefix(dep, bad) {
+						t.Errorf("%v reaches %s", tc.pkgs, dep)
+					}
+				}
+			}
+		})
+	}
+}
