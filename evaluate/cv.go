@@ -8,6 +8,7 @@ import (
 	"sync"
 
 	"deltafit/fit"
+	"deltafit/fit/model"
 	"deltafit/ingest/encode"
 	"deltafit/ingest/tabular"
 )
@@ -20,10 +21,10 @@ type Learner struct {
 	Fit  fit.Options
 }
 
-// Fitted is a plan and the network trained on its patterns.
+// Fitted is a classifier and the training result behind its network.
 type Fitted struct {
-	Plan   *encode.Plan
-	Result *fit.Result
+	Classifier *model.Classifier
+	Result     *fit.Result
 }
 
 // Train fits the plan on rows of d (0-based; nil means all) and trains the
@@ -41,19 +42,8 @@ func (l Learner) Train(d *tabular.Dataset, rows []int) (*Fitted, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &Fitted{Plan: plan, Result: res}, nil
-}
-
-// Predict classifies rows of cols (the plan's columns, from Plan.Bind or
-// the dataset's features).
-func (f *Fitted) Predict(cols []*tabular.Column, rows []int) ([]int, encode.Stats) {
-	width := f.Plan.Width()
-	values, stats := f.Plan.EncodeTo(nil, cols, rows)
-	predicted := make([]int, len(rows))
-	for i := range rows {
-		predicted[i] = f.Result.Network.Classify(values[i*width : (i+1)*width])
-	}
-	return predicted, stats
+	c := &model.Classifier{Target: d.Target, Labels: d.Labels, Plan: plan, Network: res.Network}
+	return &Fitted{Classifier: c, Result: res}, nil
 }
 
 // classesOf returns the classes of the given rows of d.
@@ -86,8 +76,11 @@ func LearnerMethod(name string, l Learner, d *tabular.Dataset) Method {
 		if err != nil {
 			return nil, err
 		}
-		predicted, _ := fitted.Predict(d.Features, test)
-		return predicted, nil
+		p, _, err := fitted.Classifier.Predict(d.Table.Name, d.Features, test)
+		if err != nil {
+			return nil, err
+		}
+		return p.Predicted, nil
 	}}
 }
 

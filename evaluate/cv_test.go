@@ -64,7 +64,7 @@ func TestTrainingFoldDoesNotSeeHeldOutRows(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if !reflect.DeepEqual(clean.Plan, dirty.Plan) {
+			if !reflect.DeepEqual(clean.Classifier.Plan, dirty.Classifier.Plan) {
 				t.Error("the plan changed with the held-out rows")
 			}
 			if !reflect.DeepEqual(clean.Result.Network, dirty.Result.Network) {
@@ -75,7 +75,7 @@ func TestTrainingFoldDoesNotSeeHeldOutRows(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if reflect.DeepEqual(clean.Plan, moved.Plan) && numeric != "threshold" {
+			if reflect.DeepEqual(clean.Classifier.Plan, moved.Classifier.Plan) && numeric != "threshold" {
 				t.Error("scrambling a training row left the plan unchanged; the test cannot see leakage")
 			}
 		})

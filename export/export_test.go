@@ -35,13 +35,8 @@ func irisModel(t *testing.T) (*Model, *tabular.Dataset) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	return &Model{
-		Schema: SchemaVersion, Tool: "deltafit " + Version, Target: d.Target, Labels: d.Labels,
-		Plan: fitted.Plan, Network: fitted.Result.Network,
-		Options:  Options{Rule: "delta", Unit: "logistic", Epochs: 200, Rate: "auto", Numeric: "thermometer:8", Categorical: "onehot:1", Seed: 1, Ignore: []string{}, Kinds: map[string]string{}},
-		Training: NewTraining(fitted.Result),
-		Data:     DataInfo{Rows: d.Table.Rows, SHA256: "test"},
-	}, d
+	opts := Options{Rule: "delta", Unit: "logistic", Epochs: 200, Rate: "auto", Numeric: "thermometer:8", Categorical: "onehot:1", Seed: 1, Ignore: []string{}, Kinds: map[string]string{}}
+	return NewModel(fitted.Classifier, fitted.Result, opts, DataInfo{Rows: d.Table.Rows, SHA256: "test"}), d
 }
 
 // Round trip: write → read → equal, and writing again gives the same bytes.
@@ -104,7 +99,7 @@ func TestReadModelRejects(t *testing.T) {
 // and scores (to the six significant digits written).
 func TestPredictionsRoundTrip(t *testing.T) {
 	m, d := irisModel(t)
-	p, stats, err := m.Predict(d.Table)
+	p, stats, err := m.PredictTable(d.Table)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -131,7 +126,7 @@ func TestPredictionsRoundTrip(t *testing.T) {
 		}
 		for j, l := range d.Labels {
 			got := back.Column("score_" + l).Numbers[i]
-			want, _ := strconv.ParseFloat(strconv.FormatFloat(p.Scores[i][j], 'g', 6, 64), 64)
+			want, _ := strconv.ParseFloat(strconv.FormatFloat(p.ScoresOf(i)[j], 'g', 6, 64), 64)
 			if got != want {
 				t.Fatalf("row %d score %s: %v, want %v", i+1, l, got, want)
 			}

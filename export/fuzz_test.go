@@ -38,7 +38,7 @@ func FuzzReadModel(f *testing.F) {
 		if _, err := export.ReadModel("again.json", &again); err != nil {
 			t.Fatalf("an accepted model, written again, is rejected: %v", err)
 		}
-		p, _, err := m.Predict(tableFor(m.Plan))
+		p, _, err := m.PredictTable(tableFor(m.Plan))
 		if err != nil {
 			var de *tabular.DataError
 			if !errors.As(err, &de) {
@@ -46,8 +46,8 @@ func FuzzReadModel(f *testing.F) {
 			}
 			return
 		}
-		for i, scores := range p.Scores {
-			for _, s := range scores {
+		for i := range p.Len() {
+			for _, s := range p.ScoresOf(i) {
 				if math.IsNaN(s) || math.IsInf(s, 0) {
 					t.Fatalf("row %d: score %v", i+1, s)
 				}

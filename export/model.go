@@ -7,9 +7,12 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"reflect"
 	"slices"
+	"strings"
 
 	"deltafit/fit"
+	"deltafit/fit/model"
 	"deltafit/ingest/encode"
 )
 
@@ -26,15 +29,27 @@ const MaxModelBytes = 256 << 20
 // Model is what a model file holds: everything needed to encode new rows
 // exactly as the training rows were and to score them.
 type Model struct {
-	Schema   int          `json:"schema_version"`
-	Tool     string       `json:"tool"`
-	Target   string       `json:"target"`
-	Labels   []string     `json:"labels"`
-	Plan     *encode.Plan `json:"plan"`
-	Network  *fit.Network `json:"network"`
-	Options  Options      `json:"options"`
-	Training Training     `json:"training"`
-	Data     DataInfo     `json:"data"`
+	Schema int    `json:"schema_version"`
+	Tool   string `json:"tool"`
+	// The classifier's fields (target, labels, plan, network) are written
+	// inline, in this place.
+	model.Classifier
+	Options  Options  `json:"options"`
+	Training Training `json:"training"`
+	Data     DataInfo `json:"data"`
+}
+
+// NewModel is the model file of a classifier fitted with res on data of
+// the given rows and sha256, and the options as the user gave them.
+func NewModel(c *model.Classifier, res *fit.Result, opts Options, data DataInfo) *Model {
+	return &Model{
+		Schema:     SchemaVersion,
+		Tool:       "deltafit " + Version,
+		Classifier: *c,
+		Options:    opts,
+		Training:   NewTraining(res),
+		Data:       data,
+	}
 }
 
 // Options are the options a model was fitted with, as the user gave them.
@@ -160,6 +175,12 @@ func describeJSONError(b []byte, err error) string {
 	if errors.Is(err, io.ErrUnexpectedEOF) {
 		return "the JSON ends early (is the file truncated?)"
 	}
+	var te *json.UnmarshalTypeError
+	if errors.As(err, &te) {
+		line := 1 + bytes.Count(b[:min(int(te.Offset), len(b))], []byte("\n"))
+		field := strings.TrimPrefix(te.Field, "Classifier.") // the embedded classifier's fields are inline
+		return fmt.Sprintf("line %d: %q holds %s, which is not %s", line, field, te.Value, jsonKind(te.Type))
+	}
 	return err.Error()
 }
 
@@ -193,4 +214,21 @@ func (m *Model) Validate() error {
 		return errors.New("its network is larger than the caps")
 	}
 	return m.Network.Validate()
+}
+
+// jsonKind says in words what a value of type t must be in a model file.
+func jsonKind(t reflect.Type) string {
+	switch t.Kind() {
+	case reflect.Int, reflect.Int64, reflect.Int32, reflect.Uint, reflect.Uint64, reflect.Uint32:
+		return "a whole number in range"
+	case reflect.Float64, reflect.Float32:
+		return "a number within the range of a 64-bit float"
+	case reflect.String:
+		return "text"
+	case reflect.Bool:
+		return "true or false"
+	case reflect.Slice:
+		return "a list"
+	}
+	return "an object of the expected shape"
 }

@@ -11,6 +11,10 @@ import (
 	"github.com/olekukonko/tablewriter/tw"
 
 	"deltafit/evaluate"
+	"deltafit/fit"
+	"deltafit/fit/model"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
 // Format is a report format.
@@ -62,19 +66,36 @@ type TrainingSummary struct {
 
 // NewTrainingSummary summarises a model's training record.
 func NewTrainingSummary(m *Model) TrainingSummary {
-	t := m.Training
+	return trainingSummary(m.Network, m.Training, m.Data.Rows)
+}
+
+func trainingSummary(net *fit.Network, t Training, rows int) TrainingSummary {
 	s := TrainingSummary{
-		Rule: m.Network.Rule, Unit: m.Network.Unit.String(),
+		Rule: net.Rule, Unit: net.Unit.String(),
 		Rate: t.Rate, RateAuto: t.RateAuto, LambdaMax: t.LambdaMax,
 		Epochs: t.Epochs, Errors: t.Errors, Loss: t.Loss, Stop: t.Stop,
 	}
 	if t.LambdaMax > 0 {
 		s.StableBelow = 2 / t.LambdaMax
 	}
-	if m.Data.Rows > 0 {
-		s.Accuracy = 1 - float64(t.Errors)/float64(m.Data.Rows)
+	if rows > 0 {
+		s.Accuracy = 1 - float64(t.Errors)/float64(rows)
 	}
 	return s
+}
+
+// NewDataSummary describes a dataset, encoded by plan, whose bytes have the
+// given sha256.
+func NewDataSummary(d *tabular.Dataset, plan *encode.Plan, sha string) DataSummary {
+	counts := make([]int, len(d.Labels))
+	for _, c := range d.Classes {
+		counts[c]++
+	}
+	return DataSummary{
+		Source: tabular.DisplayName(d.Table.Name), SHA256: sha, Rows: d.Table.Rows,
+		Features: len(d.Features), Inputs: plan.Width(),
+		Target: d.Target, Labels: d.Labels, ClassCounts: counts,
+	}
 }
 
 // Spread is a mean and sample standard deviation over folds.
@@ -155,6 +176,31 @@ type FitReport struct {
 	Training TrainingSummary `json:"training"`
 	CV       *CVReport       `json:"cv,omitempty"`
 	Model    string          `json:"model,omitempty"` // path of the model file written
+}
+
+// NewFitReport reports a study of d (whose bytes have the given sha256),
+// cross-validated with seed when it has folds; modelPath is where the model
+// file was written, "" for none.
+func NewFitReport(s *evaluate.Study, d *tabular.Dataset, sha string, seed uint64, modelPath string) *FitReport {
+	r := &FitReport{
+		Data:     NewDataSummary(d, s.Fitted.Classifier.Plan, sha),
+		Training: trainingSummary(s.Fitted.Result.Network, NewTraining(s.Fitted.Result), d.Table.Rows),
+		Model:    modelPath,
+	}
+	if s.Main != nil {
+		r.CV = NewCVReport(seed, s.Main, s.Majority, s.Hebbian)
+	}
+	return r
+}
+
+// NewScoredDataSummary describes labelled data of the given source and
+// sha256 scored by classifier c into confusion table t.
+func NewScoredDataSummary(source, sha string, c *model.Classifier, t *evaluate.Confusion) DataSummary {
+	return DataSummary{
+		Source: tabular.DisplayName(source), SHA256: sha, Rows: t.Total(),
+		Features: len(c.Plan.Features), Inputs: c.Plan.Width(),
+		Target: c.Target, Labels: c.Labels, ClassCounts: t.RowTotals(),
+	}
 }
 
 // EvaluationReport is what `deltafit evaluate` reports: a saved model's

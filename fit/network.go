@@ -79,26 +79,33 @@ func (n *Network) Classify(x []float64) int {
 }
 
 // classify returns the class of x and, if outputs is not nil, stores the
-// unit outputs in it. It is the one place the decision is made.
+// unit outputs in it.
 func (n *Network) classify(x, outputs []float64) int {
 	if len(n.Weights) == 1 {
 		y := n.output(0, x)
 		if outputs != nil {
 			outputs[0] = y
 		}
-		if y > n.On+n.Off-y {
-			return 1
-		}
-		return 0
+		scores := [2]float64{n.On + n.Off - y, y}
+		return Decide(scores[:])
 	}
-	best, top := 0, 0.0
+	if outputs == nil {
+		outputs = make([]float64, len(n.Weights))
+	}
 	for j := range n.Weights {
-		y := n.output(j, x)
-		if outputs != nil {
-			outputs[j] = y
-		}
-		if j == 0 || y > top {
-			best, top = j, y
+		outputs[j] = n.output(j, x)
+	}
+	return Decide(outputs)
+}
+
+// Decide returns the class that scores choose: the arg max, ties going to
+// the lowest class index. It is the one place a class is decided, for
+// training, cross-validation and prediction alike.
+func Decide(scores []float64) int {
+	best := 0
+	for j, s := range scores {
+		if s > scores[best] {
+			best = j
 		}
 	}
 	return best

@@ -98,7 +98,7 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 	if err != nil {
 		return err
 	}
-	data := dataSummary(d, &encode.Plan{}, sha)
+	data := export.NewDataSummary(d, &encode.Plan{}, sha)
 	data.Inputs, data.Raw = len(report.Inputs), space == separate.Raw
 	if err := export.WriteCheckReport(stdout, format, &export.CheckReport{Data: data, Report: report}); err != nil {
 		return err

@@ -65,12 +65,7 @@ func runDemo(_ context.Context, opts demoOptions, stdout io.Writer) error {
 	}
 	sum := sha256.Sum256(demo.CSV)
 	sha := hex.EncodeToString(sum[:])
-	model := &export.Model{Network: s.Fitted.Result.Network, Training: export.NewTraining(s.Fitted.Result), Data: export.DataInfo{Rows: table.Rows}}
-	report := &export.FitReport{
-		Data:     dataSummary(d, s.Fitted.Plan, sha),
-		Training: export.NewTrainingSummary(model),
-		CV:       cvReport(s, seed),
-	}
+	report := export.NewFitReport(s, d, sha, seed, "")
 	if format == export.Text {
 		fmt.Fprintf(stdout, "demo data: %s, an invented kiln log (see deltafit demo --help); target %s, ignoring %s\n\n", demo.Name, demo.Target, demo.Ignore)
 	}

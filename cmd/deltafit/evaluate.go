@@ -8,7 +8,6 @@ import (
 
 	"deltafit/evaluate"
 	"deltafit/export"
-	"deltafit/ingest/tabular"
 )
 
 type evaluateOptions struct {
@@ -48,26 +47,13 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err != nil {
 		return err
 	}
-	truth, err := tabular.TargetClasses(table, model.Target, model.Labels)
-	if err != nil {
-		return err
-	}
-	predictions, stats, err := model.Predict(table)
+	confusion, stats, err := evaluate.ScoreTable(&model.Classifier, table)
 	if err != nil {
 		return err
 	}
 	if err := opts.checkEncoding(stderr, path, stats); err != nil {
 		return err
 	}
-	confusion := evaluate.NewConfusion(model.Labels)
-	if err := confusion.AddAll(truth, predictions.Predicted); err != nil {
-		return err
-	}
-	counts := confusion.RowTotals()
-	data := export.DataSummary{
-		Source: tabular.DisplayName(path), SHA256: sha, Rows: table.Rows,
-		Features: len(model.Plan.Features), Inputs: model.Plan.Width(),
-		Target: model.Target, Labels: model.Labels, ClassCounts: counts,
-	}
+	data := export.NewScoredDataSummary(path, sha, &model.Classifier, confusion)
 	return export.WriteEvaluationReport(stdout, format, export.NewEvaluationReport(data, opts.model, confusion))
 }

@@ -152,37 +152,21 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 	if err != nil {
 		return err
 	}
-	table := d.Table
 	study, err := evaluate.RunStudy(d, learner, opts.folds, opts.learn.seed)
 	if err != nil {
 		return divergenceHint(err, opts.learn)
 	}
-	if study.Fitted.Plan.Width() == 0 {
+	if study.Fitted.Classifier.Plan.Width() == 0 {
 		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", tabular.DisplayName(path))
 	}
-	model := &export.Model{
-		Schema:   export.SchemaVersion,
-		Tool:     "deltafit " + export.Version,
-		Target:   d.Target,
-		Labels:   d.Labels,
-		Plan:     study.Fitted.Plan,
-		Network:  study.Fitted.Result.Network,
-		Options:  opts.learn.modelOptions(opts.input.kinds),
-		Training: export.NewTraining(study.Fitted.Result),
-		Data:     export.DataInfo{Rows: table.Rows, SHA256: sha},
-	}
-	report := &export.FitReport{
-		Data:     dataSummary(d, study.Fitted.Plan, sha),
-		Training: export.NewTrainingSummary(model),
-		CV:       cvReport(study, opts.learn.seed),
-		Model:    opts.output,
-	}
 	if opts.output != "" {
+		model := export.NewModel(study.Fitted.Classifier, study.Fitted.Result,
+			opts.learn.modelOptions(opts.input.kinds), export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
 		if err := export.WriteFile(opts.output, func(w io.Writer) error { return export.WriteModel(w, model) }); err != nil {
 			return err
 		}
 	}
-	return export.WriteFitReport(stdout, format, report)
+	return export.WriteFitReport(stdout, format, export.NewFitReport(study, d, sha, opts.learn.seed, opts.output))
 }
 
 // loadDataset checks the encoding and training flags, then reads the data
@@ -204,14 +188,6 @@ func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reade
 	return learner, d, sha, err
 }
 
-// cvReport is the report of a study's cross-validation, nil without one.
-func cvReport(s *evaluate.Study, seed uint64) *export.CVReport {
-	if s.Main == nil {
-		return nil
-	}
-	return export.NewCVReport(seed, s.Main, s.Majority, s.Hebbian)
-}
-
 // maxRate is the largest --rate accepted (1e6 in the usage message).
 const maxRate = 1e6
 
@@ -227,16 +203,4 @@ func divergenceHint(err error, learn learnFlags) error {
 		return fmt.Errorf("%w; try a smaller --rate", err)
 	}
 	return fmt.Errorf("%w; try --rate auto, or a smaller --rate", err)
-}
-
-func dataSummary(d *tabular.Dataset, plan *encode.Plan, sha string) export.DataSummary {
-	counts := make([]int, len(d.Labels))
-	for _, c := range d.Classes {
-		counts[c]++
-	}
-	return export.DataSummary{
-		Source: tabular.DisplayName(d.Table.Name), SHA256: sha, Rows: d.Table.Rows,
-		Features: len(d.Features), Inputs: plan.Width(),
-		Target: d.Target, Labels: d.Labels, ClassCounts: counts,
-	}
 }

@@ -1,10 +1,10 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"os"
-	"sort"
 
 	"github.com/spf13/pflag"
 
@@ -64,29 +64,16 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *tabular
 // on: one warning line per column on stderr, or with --strict an error
 // naming the first such cell.
 func (m *modelInput) checkEncoding(stderr io.Writer, name string, stats encode.Stats) error {
-	for _, kind := range []struct {
-		cells map[string]encode.Surprise
-		warn  string
-		fail  string
-	}{
-		{stats.Other, "values the model has no unit for (unseen or rare in training), sent to the other unit",
-			"the model has no unit for this value (unseen or rare in training)"},
-		{stats.MissingNoUnit, "missing cells, which the training data never had, encoded with every unit off",
-			"the cell is missing, which the training data never was here"},
-	} {
-		cols := make([]string, 0, len(kind.cells))
-		for c := range kind.cells {
-			cols = append(cols, c)
-		}
-		sort.Strings(cols)
-		for _, c := range cols {
-			s := kind.cells[c]
-			if m.strict {
-				return &tabular.DataError{File: name, Row: s.FirstRow, Name: c,
-					Err: fmt.Errorf("%s; cells like it in the column: %d; --strict refuses them (without it they are a warning)", kind.fail, s.Count)}
-			}
-			fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: %s: %d (first at row %d)\n", tabular.DisplayName(name), c, kind.warn, s.Count, s.FirstRow)
-		}
+	warnings, err := stats.Check(name, m.strict)
+	var de *tabular.DataError
+	if errors.As(err, &de) {
+		de.Err = fmt.Errorf("%w; --strict refuses them (without it they are a warning)", de.Err)
+	}
+	if err != nil {
+		return err
+	}
+	for _, w := range warnings {
+		fmt.Fprintf(stderr, "deltafit: warning: %s\n", w)
 	}
 	return nil
 }

@@ -48,7 +48,7 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 	if err != nil {
 		return err
 	}
-	predictions, stats, err := model.Predict(table)
+	predictions, stats, err := model.PredictTable(table)
 	if err != nil {
 		return err
 	}

@@ -1,5 +1,12 @@
 package encode
 
+import (
+	"fmt"
+	"slices"
+
+	"deltafit/ingest/tabular"
+)
+
 // Stats counts what encoding met that the plan was not fitted on.
 type Stats struct {
 	// Other counts, per column, values outside the plan's category list
@@ -41,4 +48,36 @@ func (s *Stats) Merge(other Stats) {
 	for col, n := range other.MissingNoUnit {
 		merge(&s.MissingNoUnit, col, n)
 	}
+}
+
+// Check applies the policy for cells the plan was not fitted on. Without
+// strict it returns one warning per column and kind of cell, in a fixed
+// order, each naming file, the column, the count and the first row. With
+// strict the first such cell is a *tabular.DataError instead.
+func (s *Stats) Check(file string, strict bool) (warnings []string, err error) {
+	for _, kind := range []struct {
+		cells map[string]Surprise
+		warn  string
+		fail  string
+	}{
+		{s.Other, "values the model has no unit for (unseen or rare in training), sent to the other unit",
+			"the model has no unit for this value (unseen or rare in training)"},
+		{s.MissingNoUnit, "missing cells, which the training data never had, encoded with every unit off",
+			"the cell is missing, which the training data never was here"},
+	} {
+		cols := make([]string, 0, len(kind.cells))
+		for c := range kind.cells {
+			cols = append(cols, c)
+		}
+		slices.Sort(cols)
+		for _, c := range cols {
+			n := kind.cells[c]
+			if strict {
+				return nil, &tabular.DataError{File: file, Row: n.FirstRow, Name: c,
+					Err: fmt.Errorf("%s; cells like it in the column: %d", kind.fail, n.Count)}
+			}
+			warnings = append(warnings, fmt.Sprintf("%s: column %s: %s: %d (first at row %d)", tabular.DisplayName(file), c, kind.warn, n.Count, n.FirstRow))
+		}
+	}
+	return warnings, nil
 }

@@ -227,8 +227,8 @@ func leastSquaresCase() ([]Case, error) {
 	if err != nil {
 		return nil, err
 	}
-	values, _ := fitted.Plan.EncodeTo(nil, virginica.Features, nil)
-	w, _ := leastSquares(fit.Patterns{Width: fitted.Plan.Width(), Values: values}, virginica.Classes)
+	values, _ := fitted.Classifier.Plan.EncodeTo(nil, virginica.Features, nil)
+	w, _ := leastSquares(fit.Patterns{Width: fitted.Classifier.Plan.Width(), Values: values}, virginica.Classes)
 	net := fitted.Result.Network
 	gap := math.Abs(net.Biases[0] - w[len(w)-1])
 	for j, v := range net.Weights[0] {

@@ -1,0 +1,98 @@
+package model
+
+import (
+	"errors"
+	"math"
+
+	"deltafit/fit"
+	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
+)
+
+// Classifier is a fitted classifier.
+type Classifier struct {
+	Target  string       `json:"target"` // the column whose classes Labels lists
+	Labels  []string     `json:"labels"` // class labels; class i is Labels[i]
+	Plan    *encode.Plan `json:"plan"`
+	Network *fit.Network `json:"network"`
+}
+
+// Predictions are the classes and per-class scores of some rows.
+type Predictions struct {
+	Labels    []string
+	Rows      []int     // 0-based rows of the table, in the order scored
+	Predicted []int     // class index per row
+	Scores    []float64 // len(Labels) scores per row, row after row
+}
+
+// Len is the number of rows.
+func (p *Predictions) Len() int { return len(p.Predicted) }
+
+// ScoresOf returns the scores of the n-th row scored. The slice aliases
+// Scores.
+func (p *Predictions) ScoresOf(n int) []float64 {
+	k := len(p.Labels)
+	return p.Scores[n*k : (n+1)*k : (n+1)*k]
+}
+
+// PredictTable scores every row of t, whose columns are found by name.
+// Warnings about cells the plan was not fitted on are in the stats.
+func (c *Classifier) PredictTable(t *tabular.Table) (*Predictions, encode.Stats, error) {
+	cols, err := c.Plan.Bind(t)
+	if err != nil {
+		return nil, encode.Stats{}, err
+	}
+	return c.Predict(t.Name, cols, nil)
+}
+
+// blockValues is the most encoded values Predict holds at once.
+const blockValues = 1 << 20
+
+// Predict scores rows (0-based; nil means all) of cols, the plan's columns
+// as Plan.Bind returns them or the features it was fitted on. file names the
+// data in errors.
+func (c *Classifier) Predict(file string, cols []*tabular.Column, rows []int) (*Predictions, encode.Stats, error) {
+	var stats encode.Stats
+	if rows == nil {
+		n := 0
+		if len(cols) > 0 {
+			n = cols[0].Len()
+		}
+		rows = make([]int, n)
+		for i := range rows {
+			rows[i] = i
+		}
+	}
+	k := len(c.Labels)
+	p := &Predictions{
+		Labels:    c.Labels,
+		Rows:      rows,
+		Predicted: make([]int, len(rows)),
+		Scores:    make([]float64, len(rows)*k),
+	}
+	width := c.Plan.Width()
+	// A plan of many units (up to encode.MaxWidth) needs one block of
+	// patterns, not one per row.
+	block := max(1, blockValues/max(1, width))
+	var values []float64
+	for lo := 0; lo < len(rows); lo += block {
+		hi := min(lo+block, len(rows))
+		var blockStats encode.Stats
+		values, blockStats = c.Plan.EncodeTo(values, cols, rows[lo:hi])
+		stats.Merge(blockStats)
+		for n := lo; n < hi; n++ {
+			x := values[(n-lo)*width : (n-lo+1)*width]
+			scores := c.Network.ScoresTo(p.ScoresOf(n), x)
+			for _, s := range scores {
+				if !finite(s) {
+					return nil, stats, &tabular.DataError{File: file, Row: rows[n] + 1,
+						Err: errors.New("the model's scores for the row are not finite; its inputs are far outside the range of the training data")}
+				}
+			}
+			p.Predicted[n] = fit.Decide(scores)
+		}
+	}
+	return p, stats, nil
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
