@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"runtime"
-	"strconv"
 	"sync"
 
 	"deltafit/fit"
@@ -159,13 +158,12 @@ func CrossValidate(d *tabular.Dataset, folds [][]int, m Method) (*CVResult, erro
 	return res, nil
 }
 
-// Folds makes stratified folds of d, with FoldError rewritten to name the
-// class label.
+// Folds makes stratified folds of d; a *FoldError names the class label.
 func Folds(d *tabular.Dataset, k int, seed uint64) ([][]int, error) {
 	folds, err := StratifiedFolds(d.Classes, len(d.Labels), k, seed)
 	var fe *FoldError
 	if errors.As(err, &fe) {
-		return nil, errors.New(fe.Message(strconv.Quote(d.Labels[fe.Label])))
+		fe.Name = d.Labels[fe.Label]
 	}
 	return folds, err
 }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math/rand/v2"
 	"slices"
+	"strconv"
 )
 
 // ErrFoldCount means the number of folds is below 2 or above the number of
@@ -14,18 +15,19 @@ var ErrFoldCount = errors.New("evaluate: bad number of folds")
 // FoldError reports a class with fewer rows than folds, so some test fold
 // would hold none of it.
 type FoldError struct {
-	Label int // class index
-	Count int // rows of that class
-	Folds int // folds asked for
+	Label int    // class index
+	Name  string // class label, when the caller knows it ("" prints the index)
+	Count int    // rows of that class
+	Folds int    // folds asked for
 }
 
 func (e *FoldError) Error() string {
-	return e.Message(fmt.Sprint(e.Label))
-}
-
-// Message returns the error text with the class index replaced by a name,
-// for callers that know the label of class e.Label.
-func (e *FoldError) Message(label string) string {
+	label := e.Name
+	if label == "" {
+		label = fmt.Sprint(e.Label)
+	} else {
+		label = strconv.Quote(label)
+	}
 	rows := "rows"
 	if e.Count == 1 {
 		rows = "row"

@@ -274,9 +274,10 @@ func TestStratifiedFoldsErrors(t *testing.T) {
 		if got := fe.Error(); got != want {
 			t.Errorf("Error() = %q, want %q", got, want)
 		}
-		want = "evaluate: class versicolor has 2 rows; 3 folds need at least 3 in every class (use fewer folds)"
-		if got := fe.Message("versicolor"); got != want {
-			t.Errorf("Message = %q, want %q", got, want)
+		fe.Name = "versicolor"
+		want = `evaluate: class "versicolor" has 2 rows; 3 folds need at least 3 in every class (use fewer folds)`
+		if got := fe.Error(); got != want {
+			t.Errorf("with its name, Error() = %q, want %q", got, want)
 		}
 	})
 

@@ -155,7 +155,7 @@ func ReadModel(name string, r io.Reader) (*Model, error) {
 		return nil, fmt.Errorf("%s: %w: %v", name, ErrModel, describeJSONError(b, err))
 	}
 	if err := m.Validate(); err != nil {
-		return nil, fmt.Errorf("%s: %w: %v", name, ErrModel, err)
+		return nil, fmt.Errorf("%s: %w: %w", name, ErrModel, err)
 	}
 	return &m, nil
 }
