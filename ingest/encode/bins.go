@@ -55,8 +55,8 @@ func (thermometer) parse(e *Encoding, arg string, hasArg bool) error {
 	return parseBins(e, arg, hasArg)
 }
 
-func (thermometer) fit(f *Feature, col *tabular.Column, rows []int, e Encoding) error {
-	f.Cuts = quantileCuts(presentValues(col, rows), e.Bins)
+func (thermometer) fit(f *Feature, s *Summary, e Encoding) error {
+	f.Cuts = quantileCuts(s.Values, e.Bins)
 	return nil
 }
 
@@ -94,8 +94,8 @@ type bins struct{}
 
 func (bins) parse(e *Encoding, arg string, hasArg bool) error { return parseBins(e, arg, hasArg) }
 
-func (bins) fit(f *Feature, col *tabular.Column, rows []int, e Encoding) error {
-	f.Cuts = quantileCuts(presentValues(col, rows), e.Bins)
+func (bins) fit(f *Feature, s *Summary, e Encoding) error {
+	f.Cuts = quantileCuts(s.Values, e.Bins)
 	return nil
 }
 
@@ -133,8 +133,8 @@ func (threshold) parse(e *Encoding, arg string, hasArg bool) error {
 	return nil
 }
 
-func (threshold) fit(f *Feature, col *tabular.Column, rows []int, e Encoding) error {
-	cut := median(presentValues(col, rows))
+func (threshold) fit(f *Feature, s *Summary, e Encoding) error {
+	cut := median(s.Values)
 	if e.Cut != nil {
 		cut = *e.Cut
 	}

@@ -28,15 +28,9 @@ func (categories) parse(e *Encoding, arg string, hasArg bool) error {
 	return nil
 }
 
-func (categories) fit(f *Feature, col *tabular.Column, rows []int, e Encoding) error {
-	counts := map[string]int{}
-	for _, r := range rows {
-		if !col.IsMissing(r) {
-			counts[col.Text[r]]++
-		}
-	}
+func (categories) fit(f *Feature, s *Summary, e Encoding) error {
 	least := max(1, e.Min)
-	for c, n := range counts {
+	for c, n := range s.Counts {
 		if n >= least {
 			f.Categories = append(f.Categories, c)
 		}

@@ -47,8 +47,8 @@ type method interface {
 	// is none) into e, whose Method is already set.
 	parse(e *Encoding, arg string, hasArg bool) error
 	// fit sets the fitted parameters of f (cuts, center and scale,
-	// categories) from the present values of col on rows.
-	fit(f *Feature, col *tabular.Column, rows []int, e Encoding) error
+	// categories) from the summary of the training rows.
+	fit(f *Feature, s *Summary, e Encoding) error
 	// valueUnits is the number of units the values take (without the
 	// missing-indicator unit).
 	valueUnits(f *Feature) int

@@ -10,7 +10,7 @@ type flag struct{}
 
 func (flag) parse(e *Encoding, arg string, hasArg bool) error { return noArgument(e, arg, hasArg) }
 
-func (flag) fit(*Feature, *tabular.Column, []int, Encoding) error { return nil }
+func (flag) fit(*Feature, *Summary, Encoding) error { return nil }
 
 func (flag) valueUnits(*Feature) int { return 1 }
 

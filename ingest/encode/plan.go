@@ -79,26 +79,27 @@ func (p *Plan) UnitNames() []string {
 // those rows alone. A column that cannot be encoded is a *tabular.DataError
 // naming it.
 func FitPlan(features []*tabular.Column, rows []int, opts Options) (*Plan, error) {
+	summaries := make([]*Summary, len(features))
+	for i, col := range features {
+		summaries[i] = Summarize(col, rows)
+	}
+	return PlanFromSummaries(summaries, opts)
+}
+
+// PlanFromSummaries fits an encoding of the columns that summaries
+// describe, as FitPlan does from their rows.
+func PlanFromSummaries(summaries []*Summary, opts Options) (*Plan, error) {
 	opts = opts.withDefaults()
-	p := &Plan{Features: make([]Feature, 0, len(features))}
-	for _, col := range features {
-		if rows == nil {
-			rows = allRows(col.Len())
-		}
-		e := opts.encoding(col.Kind)
-		f := Feature{Column: col.Name, Kind: col.Kind, Method: e.Method}
-		m, ok := lookup(col.Kind, e.Method)
+	p := &Plan{Features: make([]Feature, 0, len(summaries))}
+	for _, s := range summaries {
+		e := opts.encoding(s.Kind)
+		m, ok := lookup(s.Kind, e.Method)
 		if !ok {
-			return nil, fmt.Errorf("ingest: unknown %s encoding %q", col.Kind, e.Method)
+			return nil, fmt.Errorf("ingest: unknown %s encoding %q", s.Kind, e.Method)
 		}
-		for _, r := range rows {
-			if col.IsMissing(r) {
-				f.Missing = true
-				break
-			}
-		}
-		if err := m.fit(&f, col, rows, e); err != nil {
-			return nil, &tabular.DataError{Name: col.Name, Err: err}
+		f := Feature{Column: s.Column, Kind: s.Kind, Method: e.Method, Missing: s.Missing > 0}
+		if err := m.fit(&f, s, e); err != nil {
+			return nil, &tabular.DataError{Name: s.Column, Err: err}
 		}
 		p.Features = append(p.Features, f)
 	}

@@ -3,21 +3,7 @@ package encode
 import (
 	"math"
 	"slices"
-
-	"deltafit/ingest/tabular"
 )
-
-// presentValues returns the values of col on rows, leaving out missing
-// cells.
-func presentValues(col *tabular.Column, rows []int) []float64 {
-	values := make([]float64, 0, len(rows))
-	for _, r := range rows {
-		if !col.IsMissing(r) {
-			values = append(values, col.Numbers[r])
-		}
-	}
-	return values
-}
 
 // quantileCuts returns the distinct cuts between K bins of equal count,
 // keeping only cuts that split the values (min ≤ cut < max), so that no unit

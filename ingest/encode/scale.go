@@ -50,8 +50,8 @@ type zscore struct{}
 
 func (zscore) parse(e *Encoding, arg string, hasArg bool) error { return noArgument(e, arg, hasArg) }
 
-func (zscore) fit(f *Feature, col *tabular.Column, rows []int, _ Encoding) error {
-	f.Center, f.Scale = meanSD(presentValues(col, rows))
+func (zscore) fit(f *Feature, s *Summary, _ Encoding) error {
+	f.Center, f.Scale = meanSD(s.Values)
 	return checkScale(f)
 }
 
@@ -73,8 +73,8 @@ type minmax struct{}
 
 func (minmax) parse(e *Encoding, arg string, hasArg bool) error { return noArgument(e, arg, hasArg) }
 
-func (minmax) fit(f *Feature, col *tabular.Column, rows []int, _ Encoding) error {
-	if values := presentValues(col, rows); len(values) > 0 {
+func (minmax) fit(f *Feature, s *Summary, _ Encoding) error {
+	if values := s.Values; len(values) > 0 {
 		lo, hi := slices.Min(values), slices.Max(values)
 		f.Center, f.Scale = lo, hi-lo
 	}
