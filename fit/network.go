@@ -75,28 +75,38 @@ func (n *Network) ScoresTo(dst, x []float64) []float64 {
 // going to the lowest class index. It panics if len(x) != Inputs.
 func (n *Network) Classify(x []float64) int {
 	n.checkInputs(x)
-	return n.classify(x, nil)
+	var buf [16]float64 // outputs of up to 16 units without allocating
+	outputs := buf[:0]
+	if len(n.Weights) <= len(buf) {
+		outputs = buf[:len(n.Weights)]
+	} else {
+		outputs = make([]float64, len(n.Weights))
+	}
+	return n.classify(x, outputs)
 }
 
-// classify returns the class of x and, if outputs is not nil, stores the
-// unit outputs in it. It is the one place the decision is made.
+// classify stores the unit outputs for x in outputs, one per unit, and
+// returns the class they decide.
 func (n *Network) classify(x, outputs []float64) int {
-	if len(n.Weights) == 1 {
-		y := n.output(0, x)
-		if outputs != nil {
-			outputs[0] = y
-		}
-		if y > n.On+n.Off-y {
+	for j := range n.Weights {
+		outputs[j] = n.output(j, x)
+	}
+	return n.decide(outputs)
+}
+
+// decide returns the class that the unit outputs decide. It is the one
+// place the decision is made: a single unit of output y decides class 1
+// exactly when y > On+Off−y; one unit per class decides the arg max, ties
+// going to the lowest class index.
+func (n *Network) decide(outputs []float64) int {
+	if len(outputs) == 1 {
+		if y := outputs[0]; y > n.On+n.Off-y {
 			return 1
 		}
 		return 0
 	}
 	best, top := 0, 0.0
-	for j := range n.Weights {
-		y := n.output(j, x)
-		if outputs != nil {
-			outputs[j] = y
-		}
+	for j, y := range outputs {
 		if j == 0 || y > top {
 			best, top = j, y
 		}
