@@ -1,6 +1,7 @@
 package evaluate
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"runtime"
@@ -26,21 +27,36 @@ type Fitted struct {
 }
 
 // Train fits the plan on rows of d (0-based; nil means all) and trains the
-// network on the encoded rows.
+// network on the encoded rows, with l.Fit.Workers measuring each epoch.
 func (l Learner) Train(d *ingest.Dataset, rows []int) (*Fitted, error) {
-	if rows == nil {
-		rows = allRows(d.Table.Rows)
-	}
+	fitted, _, err := l.train(context.Background(), d, rows, l.Fit.Workers)
+	return fitted, err
+}
+
+// train fits the plan on rows of d (nil means all), encodes every row of
+// d with it into one store, and trains on the view of the given rows with
+// workers measuring each epoch. It returns the store too, so that
+// cross-validation predicts its test rows from the same encoding without
+// encoding them again.
+func (l Learner) train(ctx context.Context, d *ingest.Dataset, rows []int, workers int) (*Fitted, fit.Patterns, error) {
 	plan, err := ingest.FitPlan(d.Features, rows, l.Plan)
 	if err != nil {
-		return nil, err
+		return nil, fit.Patterns{}, err
 	}
-	values, _ := plan.EncodeTo(nil, d.Features, rows)
-	res, err := fit.Train(fit.Patterns{Width: plan.Width(), Values: values}, classesOf(d, rows), len(d.Labels), l.Fit)
+	values, _ := plan.EncodeTo(nil, d.Features, nil)
+	all := fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}
+	var store fit.Store = all
+	classes := d.Classes
+	if rows != nil {
+		store, classes = fit.Subset(all, rows), classesOf(d, rows)
+	}
+	opts := l.Fit
+	opts.Workers = workers
+	res, err := fit.TrainContext(ctx, store, classes, len(d.Labels), opts)
 	if err != nil {
-		return nil, err
+		return nil, fit.Patterns{}, err
 	}
-	return &Fitted{Plan: plan, Result: res}, nil
+	return &Fitted{Plan: plan, Result: res}, all, nil
 }
 
 // Predict classifies rows of cols (the plan's columns, from Plan.Bind or
@@ -72,20 +88,34 @@ func allRows(n int) []int {
 	return rows
 }
 
-// Method predicts the classes of test rows after learning from train rows.
-type Method struct {
-	Name    string
-	Predict func(train, test []int) ([]int, error)
+// Fold is one round of a cross-validation.
+type Fold struct {
+	Train, Test []int // rows of the dataset, 0-based, ascending
+	// Workers is the most goroutines the method may use, at least 1.
+	Workers int
 }
 
-// LearnerMethod cross-validates a Learner, whatever rule l.Fit names.
+// Method predicts the classes of a fold's test rows after learning from
+// its training rows. Predict should stop soon once ctx is done.
+type Method struct {
+	Name    string
+	Predict func(ctx context.Context, f Fold) ([]int, error)
+}
+
+// LearnerMethod cross-validates a Learner, whatever rule l.Fit names. Each
+// fold encodes every row once with the plan fitted on its training rows,
+// trains on a view of the training rows (fit.Subset) and predicts the test
+// rows from the same store.
 func LearnerMethod(name string, l Learner, d *ingest.Dataset) Method {
-	return Method{Name: name, Predict: func(train, test []int) ([]int, error) {
-		fitted, err := l.Train(d, train)
+	return Method{Name: name, Predict: func(ctx context.Context, f Fold) ([]int, error) {
+		fitted, all, err := l.train(ctx, d, f.Train, f.Workers)
 		if err != nil {
 			return nil, err
 		}
-		predicted, _ := fitted.Predict(d.Features, test)
+		predicted := make([]int, len(f.Test))
+		for i, r := range f.Test {
+			predicted[i] = fitted.Result.Network.Classify(all.Row(r))
+		}
 		return predicted, nil
 	}}
 }
@@ -93,9 +123,9 @@ func LearnerMethod(name string, l Learner, d *ingest.Dataset) Method {
 // MajorityMethod predicts the most frequent class of the training rows for
 // every test row.
 func MajorityMethod(d *ingest.Dataset) Method {
-	return Method{Name: "majority", Predict: func(train, test []int) ([]int, error) {
-		majority := Majority(classesOf(d, train), len(d.Labels))
-		predicted := make([]int, len(test))
+	return Method{Name: "majority", Predict: func(_ context.Context, f Fold) ([]int, error) {
+		majority := Majority(classesOf(d, f.Train), len(d.Labels))
+		predicted := make([]int, len(f.Test))
 		for i := range predicted {
 			predicted[i] = majority
 		}
@@ -112,10 +142,20 @@ type CVResult struct {
 }
 
 // CrossValidate trains on all folds but one and predicts the held-out
-// fold, for each fold in turn, and pools the predictions. Folds run in
-// parallel on up to GOMAXPROCS goroutines, so m.Predict must be safe for
-// concurrent use; the result does not depend on the schedule.
-func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error) {
+// fold, for each fold in turn, and pools the predictions.
+//
+// It divides workers goroutines (0 means runtime.GOMAXPROCS(0)) between
+// the folds and the work within each: up to workers folds run at once, so
+// m.Predict must be safe for concurrent use, and each gets an equal share
+// of what is left (Fold.Workers), so that no more than workers goroutines
+// are busy. The result does not depend on the schedule or the count.
+//
+// Once ctx is done no further fold is started, and CrossValidate returns
+// an error wrapping ctx.Err().
+func CrossValidate(ctx context.Context, d *ingest.Dataset, folds [][]int, m Method, workers int) (*CVResult, error) {
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
 	type outcome struct {
 		confusion *Confusion
 		err       error
@@ -123,13 +163,17 @@ func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error
 	outcomes := make([]outcome, len(folds))
 	next := make(chan int)
 	var wg sync.WaitGroup
-	for w := 0; w < min(runtime.GOMAXPROCS(0), len(folds)); w++ {
+	concurrent := min(workers, len(folds))
+	for range concurrent {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			for k := range next {
+				if ctx.Err() != nil {
+					continue // handed out as ctx was done: not started
+				}
 				test := folds[k]
-				predicted, err := m.Predict(TrainRows(folds, k), test)
+				predicted, err := m.Predict(ctx, Fold{Train: TrainRows(folds, k), Test: test, Workers: workers / concurrent})
 				fold := NewConfusion(d.Labels)
 				if err == nil {
 					// AddAll, not Add: a Method that returns too few
@@ -145,11 +189,19 @@ func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error
 			}
 		}()
 	}
+hand:
 	for k := range folds {
-		next <- k
+		select {
+		case next <- k:
+		case <-ctx.Done():
+			break hand
+		}
 	}
 	close(next)
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("evaluate: %s: cross-validation stopped: %w", m.Name, err)
+	}
 
 	res := &CVResult{Method: m.Name, Confusion: NewConfusion(d.Labels)}
 	for _, o := range outcomes {

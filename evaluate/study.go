@@ -1,8 +1,10 @@
 package evaluate
 
 import (
+	"context"
 	"errors"
 	"fmt"
+	"runtime"
 
 	"deltafit/fit"
 	"deltafit/ingest"
@@ -20,8 +22,12 @@ type Study struct {
 
 // RunStudy fits l on every row of d and, when folds > 0, cross-validates
 // it with stratified folds from seed beside the majority-class and Hebbian
-// baselines. Data errors name the dataset's file.
+// baselines. l.Fit.Workers (0: runtime.GOMAXPROCS(0), read once here)
+// bounds the goroutines of each step. Data errors name the dataset's file.
 func RunStudy(d *ingest.Dataset, l Learner, folds int, seed uint64) (*Study, error) {
+	if l.Fit.Workers == 0 {
+		l.Fit.Workers = runtime.GOMAXPROCS(0)
+	}
 	fitted, err := l.Train(d, nil)
 	if err != nil {
 		return nil, inFile(err, d.Table.Name)
@@ -42,7 +48,7 @@ func RunStudy(d *ingest.Dataset, l Learner, folds int, seed uint64) (*Study, err
 		{&s.Majority, MajorityMethod(d)},
 		{&s.Hebbian, LearnerMethod("hebbian", HebbianBaseline(l), d)},
 	} {
-		if *run.dst, err = CrossValidate(d, split, run.m); err != nil {
+		if *run.dst, err = CrossValidate(context.Background(), d, split, run.m, l.Fit.Workers); err != nil {
 			return nil, inFile(err, d.Table.Name)
 		}
 	}

@@ -1,6 +1,7 @@
 package reference
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"strings"
@@ -101,7 +102,7 @@ func irisCases() ([]Case, error) {
 	if err != nil {
 		return nil, err
 	}
-	cv, err := evaluate.CrossValidate(d, folds, evaluate.LearnerMethod("delta", evaluate.Learner{Fit: fit.Options{Seed: 1}}, d))
+	cv, err := evaluate.CrossValidate(context.Background(), d, folds, evaluate.LearnerMethod("delta", evaluate.Learner{Fit: fit.Options{Seed: 1}}, d), 0)
 	if err != nil {
 		return nil, err
 	}
