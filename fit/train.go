@@ -143,7 +143,8 @@ type trainer struct {
 
 	sumWeights []float64 // batch accumulators, units × width
 	sumBiases  []float64
-	outputs    []float64
+	outputs    []float64 // per unit: net inputs, then outputs
+	steps      []float64 // per unit: a pattern's steps (online) or signals (batch)
 
 	updates UpdateRecorder // Recorder, when it records updates
 	update  Update         // handed to updates, its slices reused
@@ -217,6 +218,7 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 		weights: make([]float64, units*width),
 		biases:  make([]float64, units),
 		outputs: make([]float64, units),
+		steps:   make([]float64, units),
 
 		chunkStats: make([]EpochStats, (n+measureChunk-1)/measureChunk),
 	}
@@ -388,8 +390,10 @@ func (t *trainer) target(j, c int) float64 {
 }
 
 // The pattern kernels of the trainer. rowOf fetches pattern i once per
-// visit; netInput and addRow then compute with it, or with the store's
-// RowKernels, which need no row (rowOf returns nil).
+// visit; netInputsTo and addRowTo then compute with it for every unit at
+// once, or with the store's RowKernels, which need no row (rowOf returns
+// nil). Choosing once per pattern, not per unit, keeps the dense path as
+// fast as plain calls to dot and axpy.
 
 // rowOf returns pattern i, written into buf by a store that copies, or nil
 // when the store's kernels stand in for it.
@@ -400,28 +404,43 @@ func (t *trainer) rowOf(i int, buf []float64) []float64 {
 	return t.store.RowTo(buf, i)
 }
 
-// netInput returns w·x + b for pattern i, whose row is x.
-func (t *trainer) netInput(i int, x, w []float64, b float64) float64 {
+// netInputsTo stores the net input w_j·x + b_j of every unit j for pattern
+// i, whose row is x, in dst.
+func (t *trainer) netInputsTo(dst []float64, i int, x []float64) {
+	width := len(t.weights) / len(t.biases)
 	if t.kernels != nil {
-		return t.kernels.DotRow(i, w) + b
-	}
-	return dot(w, x) + b
-}
-
-// addRow adds alpha times pattern i, whose row is x, to y.
-func (t *trainer) addRow(alpha float64, i int, x, y []float64) {
-	if t.kernels != nil {
-		t.kernels.AxpyRow(alpha, i, y)
+		for j := range dst {
+			dst[j] = t.kernels.DotRow(i, t.weights[j*width:(j+1)*width]) + t.biases[j]
+		}
 		return
 	}
-	axpy(alpha, x, y)
+	for j := range dst {
+		dst[j] = dot(t.weights[j*width:(j+1)*width], x) + t.biases[j]
+	}
+}
+
+// addRowTo adds steps[j] times pattern i, whose row is x, to row j of dst
+// (units × inputs) for every unit j; with skipZero, a zero step is not
+// added.
+func (t *trainer) addRowTo(dst, steps []float64, i int, x []float64, skipZero bool) {
+	width := len(dst) / len(steps)
+	for j, step := range steps {
+		if skipZero && step == 0 {
+			continue
+		}
+		if t.kernels != nil {
+			t.kernels.AxpyRow(step, i, dst[j*width:(j+1)*width])
+		} else {
+			axpy(step, x, dst[j*width:(j+1)*width])
+		}
+	}
 }
 
 // onlineEpoch updates the weights after each pattern, visiting them in an
 // order drawn from a PCG seeded by (Seed, epoch).
 func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 	t.shuffle(epoch)
-	rate, width := t.result.Rate, t.store.Inputs()
+	rate := t.result.Rate
 	for k, i := range t.order {
 		if k%ctxRows == ctxRows-1 {
 			if err := stopped(ctx, epoch); err != nil {
@@ -429,17 +448,19 @@ func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 			}
 		}
 		x, c := t.rowOf(i, t.row), t.classes[i]
-		for j := range t.biases {
-			weights := t.weights[j*width : (j+1)*width]
+		t.netInputsTo(t.outputs, i, x)
+		for j, z := range t.outputs {
 			target := t.target(j, c)
-			output := t.net.Unit.activate(t.netInput(i, x, weights, t.biases[j]))
-			step := rate * t.rule.Signal(target, output)
-			if step != 0 {
-				t.addRow(step, i, x, weights)
-				t.biases[j] += step
-			}
+			output := t.net.Unit.activate(z)
+			t.steps[j] = rate * t.rule.Signal(target, output)
 			if t.updates != nil {
-				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, step
+				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, t.steps[j]
+			}
+		}
+		t.addRowTo(t.weights, t.steps, i, x, true)
+		for j, step := range t.steps {
+			if step != 0 {
+				t.biases[j] += step
 			}
 		}
 		if t.updates != nil {
@@ -498,7 +519,6 @@ func (t *trainer) onePassEpoch(ctx context.Context, epoch int) error {
 func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error {
 	clear(t.sumWeights)
 	clear(t.sumBiases)
-	width := t.store.Inputs()
 	for i, c := range t.classes {
 		if i%ctxRows == ctxRows-1 {
 			if err := stopped(ctx, epoch); err != nil {
@@ -506,15 +526,18 @@ func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error
 			}
 		}
 		x := t.rowOf(i, t.row)
-		for j := range t.biases {
+		t.netInputsTo(t.outputs, i, x)
+		for j, z := range t.outputs {
 			target := t.target(j, c)
-			output := t.net.Unit.activate(t.netInput(i, x, t.weights[j*width:(j+1)*width], t.biases[j]))
-			signal := t.rule.Signal(target, output)
-			t.addRow(signal, i, x, t.sumWeights[j*width:(j+1)*width])
-			t.sumBiases[j] += signal
+			output := t.net.Unit.activate(z)
+			t.steps[j] = t.rule.Signal(target, output)
 			if t.updates != nil {
-				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, rate*signal
+				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, rate*t.steps[j]
 			}
+		}
+		t.addRowTo(t.sumWeights, t.steps, i, x, false)
+		for j, signal := range t.steps {
+			t.sumBiases[j] += signal
 		}
 		if t.updates != nil {
 			t.recordUpdate(epoch, i)
@@ -570,11 +593,11 @@ const measureChunk = 4096
 // decisions are those of Network.Classify.
 func (t *trainer) measureChunk(k int, outputs, row []float64) EpochStats {
 	var stats EpochStats
-	width := t.store.Inputs()
 	for i := k * measureChunk; i < min((k+1)*measureChunk, t.n); i++ {
 		x, c := t.rowOf(i, row), t.classes[i]
-		for j := range outputs {
-			outputs[j] = t.net.Unit.activate(t.netInput(i, x, t.weights[j*width:(j+1)*width], t.biases[j]))
+		t.netInputsTo(outputs, i, x)
+		for j, z := range outputs {
+			outputs[j] = t.net.Unit.activate(z)
 		}
 		if t.net.decide(outputs) != c {
 			stats.Errors++
