@@ -141,8 +141,14 @@ type CVResult struct {
 	Mean, SD     float64 // of FoldAccuracy (sample sd)
 }
 
-// CrossValidate trains on all folds but one and predicts the held-out
-// fold, for each fold in turn, and pools the predictions.
+// CrossValidate is CrossValidateContext with a context that is never
+// cancelled and runtime.GOMAXPROCS(0) workers.
+func CrossValidate(d *ingest.Dataset, folds [][]int, m Method) (*CVResult, error) {
+	return CrossValidateContext(context.Background(), d, folds, m, 0)
+}
+
+// CrossValidateContext trains on all folds but one and predicts the
+// held-out fold, for each fold in turn, and pools the predictions.
 //
 // It divides workers goroutines (0 means runtime.GOMAXPROCS(0)) between
 // the folds and the work within each: up to workers folds run at once, so
@@ -150,9 +156,9 @@ type CVResult struct {
 // of what is left (Fold.Workers), so that no more than workers goroutines
 // are busy. The result does not depend on the schedule or the count.
 //
-// Once ctx is done no further fold is started, and CrossValidate returns
+// Once ctx is done no further fold is started, and it returns
 // an error wrapping ctx.Err().
-func CrossValidate(ctx context.Context, d *ingest.Dataset, folds [][]int, m Method, workers int) (*CVResult, error) {
+func CrossValidateContext(ctx context.Context, d *ingest.Dataset, folds [][]int, m Method, workers int) (*CVResult, error) {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}

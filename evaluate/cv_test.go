@@ -92,7 +92,7 @@ func TestCrossValidateIris(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	delta, err := CrossValidate(context.Background(), d, folds, LearnerMethod("delta", Learner{Fit: fit.Options{Seed: 1}}, d), 0)
+	delta, err := CrossValidate(d, folds, LearnerMethod("delta", Learner{Fit: fit.Options{Seed: 1}}, d))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -112,7 +112,7 @@ func TestCrossValidateIris(t *testing.T) {
 	// With 45 training rows of each class in every fold, the majority is a
 	// three-way tie broken toward the first label, so the baseline predicts
 	// setosa and scores exactly 1/3 (worked by hand).
-	majority, err := CrossValidate(context.Background(), d, folds, MajorityMethod(d), 0)
+	majority, err := CrossValidate(d, folds, MajorityMethod(d))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -138,7 +138,7 @@ func TestCrossValidateSameResultOnAnyCoreCount(t *testing.T) {
 	for _, procs := range []int{1, 2, 8} {
 		for _, workers := range []int{0, 1, 3, 16} {
 			runtime.GOMAXPROCS(procs)
-			got, err := CrossValidate(context.Background(), d, folds, m, workers)
+			got, err := CrossValidateContext(context.Background(), d, folds, m, workers)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -153,8 +153,8 @@ func TestCrossValidateSameResultOnAnyCoreCount(t *testing.T) {
 	}
 }
 
-// CrossValidate divides its workers between the folds and the work within
-// each, never handing out more than it was given.
+// CrossValidateContext divides its workers between the folds and the work
+// within each, never handing out more than it was given.
 func TestCrossValidateDividesWorkers(t *testing.T) {
 	d := irisDataset(t)
 	for _, tc := range []struct {
@@ -188,7 +188,7 @@ func TestCrossValidateDividesWorkers(t *testing.T) {
 				mu.Unlock()
 				return make([]int, len(f.Test)), nil
 			}}
-			if _, err := CrossValidate(context.Background(), d, folds, probe, tc.workers); err != nil {
+			if _, err := CrossValidateContext(context.Background(), d, folds, probe, tc.workers); err != nil {
 				t.Fatal(err)
 			}
 			workers := tc.workers
@@ -223,7 +223,7 @@ func TestCrossValidateCancelled(t *testing.T) {
 		}
 		return make([]int, len(f.Test)), ctx.Err()
 	}}
-	_, err = CrossValidate(ctx, d, folds, m, 1)
+	_, err = CrossValidateContext(ctx, d, folds, m, 1)
 	if !errors.Is(err, context.Canceled) {
 		t.Errorf("error %v, want one wrapping context.Canceled", err)
 	}
@@ -288,7 +288,7 @@ func TestCrossValidateBadMethod(t *testing.T) {
 		}, ErrClassOutOfRange},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := CrossValidate(context.Background(), d, folds, Method{Name: "broken", Predict: tc.predict}, 0)
+			_, err := CrossValidate(d, folds, Method{Name: "broken", Predict: tc.predict})
 			if !errors.Is(err, tc.want) || !strings.HasPrefix(err.Error(), "evaluate: broken, fold 1 of 5: ") {
 				t.Errorf("error %v, want %v naming the method and fold 1 of 5", err, tc.want)
 			}

@@ -48,7 +48,7 @@ func RunStudy(d *ingest.Dataset, l Learner, folds int, seed uint64) (*Study, err
 		{&s.Majority, MajorityMethod(d)},
 		{&s.Hebbian, LearnerMethod("hebbian", HebbianBaseline(l), d)},
 	} {
-		if *run.dst, err = CrossValidate(context.Background(), d, split, run.m, l.Fit.Workers); err != nil {
+		if *run.dst, err = CrossValidateContext(context.Background(), d, split, run.m, l.Fit.Workers); err != nil {
 			return nil, inFile(err, d.Table.Name)
 		}
 	}

@@ -1,7 +1,6 @@
 package reference
 
 import (
-	"context"
 	"fmt"
 	"math"
 	"strings"
@@ -102,7 +101,7 @@ func irisCases() ([]Case, error) {
 	if err != nil {
 		return nil, err
 	}
-	cv, err := evaluate.CrossValidate(context.Background(), d, folds, evaluate.LearnerMethod("delta", evaluate.Learner{Fit: fit.Options{Seed: 1}}, d), 0)
+	cv, err := evaluate.CrossValidate(d, folds, evaluate.LearnerMethod("delta", evaluate.Learner{Fit: fit.Options{Seed: 1}}, d))
 	if err != nil {
 		return nil, err
 	}
