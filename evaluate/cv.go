@@ -1,6 +1,7 @@
 package evaluate
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"runtime"
@@ -20,29 +21,44 @@ type Learner struct {
 	Fit  fit.Options
 }
 
-// Fitted is a classifier and the training result behind its network.
+// Fitted is a plan and the network trained on its patterns.
 type Fitted struct {
 	Classifier *model.Classifier
 	Result     *fit.Result
 }
 
 // Train fits the plan on rows of d (0-based; nil means all) and trains the
-// network on the encoded rows.
+// network on the encoded rows, with l.Fit.Workers measuring each epoch.
 func (l Learner) Train(d *tabular.Dataset, rows []int) (*Fitted, error) {
-	if rows == nil {
-		rows = allRows(d.Table.Rows)
-	}
+	fitted, _, err := l.train(context.Background(), d, rows, l.Fit.Workers)
+	return fitted, err
+}
+
+// train fits the plan on rows of d (nil means all), encodes every row of
+// d with it into one store, and trains on the view of the given rows with
+// workers measuring each epoch. It returns the store too, so that
+// cross-validation predicts its test rows from the same encoding without
+// encoding them again.
+func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*Fitted, fit.Patterns, error) {
 	plan, err := encode.FitPlan(d.Features, rows, l.Plan)
 	if err != nil {
-		return nil, err
+		return nil, fit.Patterns{}, err
 	}
-	values, _ := plan.EncodeTo(nil, d.Features, rows)
-	res, err := fit.Train(fit.Patterns{Width: plan.Width(), Values: values}, classesOf(d, rows), len(d.Labels), l.Fit)
+	values, _ := plan.EncodeTo(nil, d.Features, nil)
+	all := fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}
+	var store fit.Store = all
+	classes := d.Classes
+	if rows != nil {
+		store, classes = fit.Subset(all, rows), classesOf(d, rows)
+	}
+	opts := l.Fit
+	opts.Workers = workers
+	res, err := fit.TrainContext(ctx, store, classes, len(d.Labels), opts)
 	if err != nil {
-		return nil, err
+		return nil, fit.Patterns{}, err
 	}
 	c := &model.Classifier{Target: d.Target, Labels: d.Labels, Plan: plan, Network: res.Network}
-	return &Fitted{Classifier: c, Result: res}, nil
+	return &Fitted{Classifier: c, Result: res}, all, nil
 }
 
 // classesOf returns the classes of the given rows of d.
@@ -62,20 +78,31 @@ func allRows(n int) []int {
 	return rows
 }
 
-// Method predicts the classes of test rows after learning from train rows.
-type Method struct {
-	Name    string
-	Predict func(train, test []int) ([]int, error)
+// Fold is one round of a cross-validation.
+type Fold struct {
+	Train, Test []int // rows of the dataset, 0-based, ascending
+	// Workers is the most goroutines the method may use, at least 1.
+	Workers int
 }
 
-// LearnerMethod cross-validates a Learner, whatever rule l.Fit names.
+// Method predicts the classes of a fold's test rows after learning from
+// its training rows. Predict should stop soon once ctx is done.
+type Method struct {
+	Name    string
+	Predict func(ctx context.Context, f Fold) ([]int, error)
+}
+
+// LearnerMethod cross-validates a Learner, whatever rule l.Fit names. Each
+// fold encodes every row once with the plan fitted on its training rows,
+// trains on a view of the training rows (fit.Subset) and predicts the test
+// rows from the same store.
 func LearnerMethod(name string, l Learner, d *tabular.Dataset) Method {
-	return Method{Name: name, Predict: func(train, test []int) ([]int, error) {
-		fitted, err := l.Train(d, train)
+	return Method{Name: name, Predict: func(ctx context.Context, f Fold) ([]int, error) {
+		fitted, all, err := l.train(ctx, d, f.Train, f.Workers)
 		if err != nil {
 			return nil, err
 		}
-		p, _, err := fitted.Classifier.Predict(d.Table.Name, d.Features, test)
+		p, err := fitted.Classifier.PredictPatterns(d.Table.Name, all, f.Test)
 		if err != nil {
 			return nil, err
 		}
@@ -86,9 +113,9 @@ func LearnerMethod(name string, l Learner, d *tabular.Dataset) Method {
 // MajorityMethod predicts the most frequent class of the training rows for
 // every test row.
 func MajorityMethod(d *tabular.Dataset) Method {
-	return Method{Name: "majority", Predict: func(train, test []int) ([]int, error) {
-		majority := Majority(classesOf(d, train), len(d.Labels))
-		predicted := make([]int, len(test))
+	return Method{Name: "majority", Predict: func(_ context.Context, f Fold) ([]int, error) {
+		majority := Majority(classesOf(d, f.Train), len(d.Labels))
+		predicted := make([]int, len(f.Test))
 		for i := range predicted {
 			predicted[i] = majority
 		}
@@ -104,11 +131,27 @@ type CVResult struct {
 	Mean, SD     float64 // of FoldAccuracy (sample sd)
 }
 
-// CrossValidate trains on all folds but one and predicts the held-out
-// fold, for each fold in turn, and pools the predictions. Folds run in
-// parallel on up to GOMAXPROCS goroutines, so m.Predict must be safe for
-// concurrent use; the result does not depend on the schedule.
+// CrossValidate is CrossValidateContext with a context that is never
+// cancelled and runtime.GOMAXPROCS(0) workers.
 func CrossValidate(d *tabular.Dataset, folds [][]int, m Method) (*CVResult, error) {
+	return CrossValidateContext(context.Background(), d, folds, m, 0)
+}
+
+// CrossValidateContext trains on all folds but one and predicts the
+// held-out fold, for each fold in turn, and pools the predictions.
+//
+// It divides workers goroutines (0 means runtime.GOMAXPROCS(0)) between
+// the folds and the work within each: up to workers folds run at once, so
+// m.Predict must be safe for concurrent use, and each gets an equal share
+// of what is left (Fold.Workers), so that no more than workers goroutines
+// are busy. The result does not depend on the schedule or the count.
+//
+// Once ctx is done no further fold is started, and it returns
+// an error wrapping ctx.Err().
+func CrossValidateContext(ctx context.Context, d *tabular.Dataset, folds [][]int, m Method, workers int) (*CVResult, error) {
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
 	type outcome struct {
 		confusion *Confusion
 		err       error
@@ -116,13 +159,17 @@ func CrossValidate(d *tabular.Dataset, folds [][]int, m Method) (*CVResult, erro
 	outcomes := make([]outcome, len(folds))
 	next := make(chan int)
 	var wg sync.WaitGroup
-	for w := 0; w < min(runtime.GOMAXPROCS(0), len(folds)); w++ {
+	concurrent := min(workers, len(folds))
+	for range concurrent {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			for k := range next {
+				if ctx.Err() != nil {
+					continue // handed out as ctx was done: not started
+				}
 				test := folds[k]
-				predicted, err := m.Predict(TrainRows(folds, k), test)
+				predicted, err := m.Predict(ctx, Fold{Train: TrainRows(folds, k), Test: test, Workers: workers / concurrent})
 				fold := NewConfusion(d.Labels)
 				if err == nil {
 					// AddAll, not Add: a Method that returns too few
@@ -138,11 +185,19 @@ func CrossValidate(d *tabular.Dataset, folds [][]int, m Method) (*CVResult, erro
 			}
 		}()
 	}
+hand:
 	for k := range folds {
-		next <- k
+		select {
+		case next <- k:
+		case <-ctx.Done():
+			break hand
+		}
 	}
 	close(next)
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("evaluate: %s: cross-validation stopped: %w", m.Name, err)
+	}
 
 	res := &CVResult{Method: m.Name, Confusion: NewConfusion(d.Labels)}
 	for _, o := range outcomes {

@@ -1,12 +1,17 @@
 package evaluate
 
 import (
+	"context"
 	"errors"
+	"fmt"
 	"reflect"
 	"runtime"
 	"slices"
 	"strings"
+	"sync"
+	"sync/atomic"
 	"testing"
+	"time"
 
 	"deltafit/fit"
 	"deltafit/ingest/encode"
@@ -120,7 +125,8 @@ func TestCrossValidateIris(t *testing.T) {
 	}
 }
 
-// Folds run in parallel; the result must not depend on how many.
+// Folds run in parallel; the result must depend neither on the number of
+// cores nor on the worker count.
 func TestCrossValidateSameResultOnAnyCoreCount(t *testing.T) {
 	d := irisDataset(t)
 	folds, err := Folds(d, 10, 5)
@@ -131,17 +137,133 @@ func TestCrossValidateSameResultOnAnyCoreCount(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
 	var first *CVResult
 	for _, procs := range []int{1, 2, 8} {
-		runtime.GOMAXPROCS(procs)
-		got, err := CrossValidate(d, folds, m)
+		for _, workers := range []int{0, 1, 3, 16} {
+			runtime.GOMAXPROCS(procs)
+			got, err := CrossValidateContext(context.Background(), d, folds, m, workers)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if first == nil {
+				first = got
+				continue
+			}
+			if !reflect.DeepEqual(first, got) {
+				t.Errorf("GOMAXPROCS=%d, %d workers gave a different result", procs, workers)
+			}
+		}
+	}
+}
+
+// CrossValidateContext divides its workers between the folds and the work
+// within each, never handing out more than it was given.
+func TestCrossValidateDividesWorkers(t *testing.T) {
+	d := irisDataset(t)
+	for _, tc := range []struct {
+		folds, workers int
+		want           int // Fold.Workers of every fold
+	}{
+		{10, 4, 1}, // four folds at a time, one worker each
+		{10, 1, 1}, // one fold at a time
+		{3, 8, 2},  // three folds at a time, 8/3 rounded down each
+		{5, 5, 1},  // five at a time
+		{2, 16, 8}, // two folds, the rest within each
+		{4, 0, max(1, runtime.GOMAXPROCS(0)/min(4, runtime.GOMAXPROCS(0)))},
+	} {
+		t.Run(fmt.Sprintf("%d folds, %d workers", tc.folds, tc.workers), func(t *testing.T) {
+			folds, err := Folds(d, tc.folds, 1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var mu sync.Mutex
+			var busy, most int
+			var given []int
+			probe := Method{Name: "probe", Predict: func(_ context.Context, f Fold) ([]int, error) {
+				mu.Lock()
+				busy += f.Workers
+				most = max(most, busy)
+				given = append(given, f.Workers)
+				mu.Unlock()
+				time.Sleep(time.Millisecond) // let folds overlap
+				mu.Lock()
+				busy -= f.Workers
+				mu.Unlock()
+				return make([]int, len(f.Test)), nil
+			}}
+			if _, err := CrossValidateContext(context.Background(), d, folds, probe, tc.workers); err != nil {
+				t.Fatal(err)
+			}
+			workers := tc.workers
+			if workers == 0 {
+				workers = runtime.GOMAXPROCS(0)
+			}
+			if most > workers {
+				t.Errorf("%d workers busy at once, given %d", most, workers)
+			}
+			for _, w := range given {
+				if w != tc.want {
+					t.Fatalf("a fold got %d workers, want %d", w, tc.want)
+				}
+			}
+		})
+	}
+}
+
+// Once the context is cancelled no further fold starts, and the error
+// says why.
+func TestCrossValidateCancelled(t *testing.T) {
+	d := irisDataset(t)
+	folds, err := Folds(d, 10, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	var started atomic.Int32
+	m := Method{Name: "cancelling", Predict: func(ctx context.Context, f Fold) ([]int, error) {
+		if started.Add(1) == 2 {
+			cancel()
+		}
+		return make([]int, len(f.Test)), ctx.Err()
+	}}
+	_, err = CrossValidateContext(ctx, d, folds, m, 1)
+	if !errors.Is(err, context.Canceled) {
+		t.Errorf("error %v, want one wrapping context.Canceled", err)
+	}
+	if n := started.Load(); n != 2 { // one worker: fold 3 is never handed out
+		t.Errorf("%d folds started, want 2", n)
+	}
+}
+
+// A fold trains on a view of the training rows of one store holding every
+// row (fit.Subset). That must give the same network, bit for bit, as
+// training on a copy of the training rows alone, and the view must read
+// the same rows as the copy.
+func TestLearnerTrainsOnAView(t *testing.T) {
+	d := irisDataset(t)
+	folds, err := Folds(d, 5, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	l := Learner{Fit: fit.Options{Seed: 4, Epochs: 25, KeepGoing: true}}
+	for k := range folds {
+		train := TrainRows(folds, k)
+		fitted, all, err := l.train(context.Background(), d, train, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if first == nil {
-			first = got
-			continue
+		values, _ := fitted.Classifier.Plan.EncodeTo(nil, d.Features, train)
+		copied := fit.Patterns{Width: fitted.Classifier.Plan.Width(), Values: values}
+		view := fit.Subset(all, train)
+		for i := range train {
+			if !slices.Equal(view.RowTo(nil, i), copied.Row(i)) {
+				t.Fatalf("fold %d: view row %d differs from the copied row", k+1, i)
+			}
 		}
-		if !reflect.DeepEqual(first, got) {
-			t.Errorf("GOMAXPROCS=%d gave a different result", procs)
+		want, err := fit.Train(copied, classesOf(d, train), len(d.Labels), l.Fit)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(fitted.Result, want) {
+			t.Errorf("fold %d: training on the view differs from training on the copy", k+1)
 		}
 	}
 }
@@ -156,12 +278,12 @@ func TestCrossValidateBadMethod(t *testing.T) {
 	}
 	for _, tc := range []struct {
 		name    string
-		predict func(train, test []int) ([]int, error)
+		predict func(ctx context.Context, f Fold) ([]int, error)
 		want    error
 	}{
-		{"too few predictions", func(_, test []int) ([]int, error) { return make([]int, len(test)-1), nil }, ErrLengthMismatch},
-		{"class out of range", func(_, test []int) ([]int, error) {
-			p := make([]int, len(test))
+		{"too few predictions", func(_ context.Context, f Fold) ([]int, error) { return make([]int, len(f.Test)-1), nil }, ErrLengthMismatch},
+		{"class out of range", func(_ context.Context, f Fold) ([]int, error) {
+			p := make([]int, len(f.Test))
 			p[0] = len(d.Labels)
 			return p, nil
 		}, ErrClassOutOfRange},

@@ -1,8 +1,10 @@
 package evaluate
 
 import (
+	"context"
 	"errors"
 	"fmt"
+	"runtime"
 
 	"deltafit/fit"
 	"deltafit/ingest/tabular"
@@ -20,9 +22,14 @@ type Study struct {
 
 // RunStudy fits l on every row of d and, when folds > 0, cross-validates
 // it with stratified folds from seed beside the majority-class and Hebbian
-// baselines. Data errors name the dataset's file.
-func RunStudy(d *tabular.Dataset, l Learner, folds int, seed uint64) (*Study, error) {
-	fitted, err := l.Train(d, nil)
+// baselines. l.Fit.Workers (0: runtime.GOMAXPROCS(0), read once here)
+// bounds the goroutines of each step. Work stops soon after ctx is done.
+// Data errors name the dataset's file.
+func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, folds int, seed uint64) (*Study, error) {
+	if l.Fit.Workers == 0 {
+		l.Fit.Workers = runtime.GOMAXPROCS(0)
+	}
+	fitted, _, err := l.train(ctx, d, nil, l.Fit.Workers)
 	if err != nil {
 		return nil, inFile(err, d.Table.Name)
 	}
@@ -42,7 +49,7 @@ func RunStudy(d *tabular.Dataset, l Learner, folds int, seed uint64) (*Study, er
 		{&s.Majority, MajorityMethod(d)},
 		{&s.Hebbian, LearnerMethod("hebbian", HebbianBaseline(l), d)},
 	} {
-		if *run.dst, err = CrossValidate(d, split, run.m); err != nil {
+		if *run.dst, err = CrossValidateContext(ctx, d, split, run.m, l.Fit.Workers); err != nil {
 			return nil, inFile(err, d.Table.Name)
 		}
 	}

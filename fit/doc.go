@@ -23,8 +23,21 @@
 // are two. The class of a pattern is the arg max of its scores, ties going
 // to the lowest class index.
 //
+// Training reads its patterns through Store (store.go), a read-only set
+// of rows: Patterns is the dense float64 store, Subset a view of some rows
+// of another store without copying them (the folds of a cross-validation
+// share one store this way). A store that can compute with a row in place,
+// such as one of packed 0/1 inputs, also implements RowKernels, which the
+// trainer then uses instead of reading rows out.
+//
+// Options hold the hooks of a run (hooks.go): Stop, the rules that end
+// training early (Converger; by default ZeroErrors then LossChange), a
+// Recorder told of each epoch and, if it is an UpdateRecorder, of every
+// update, and Workers, the goroutines that measure an epoch. TrainContext
+// stops once its context is done.
+//
 // Invariants:
-//   - Inputs are never modified: neither the Patterns nor the class labels.
+//   - Inputs are never modified: neither the store nor the class labels.
 //   - Training is deterministic: the same patterns, labels and Options
 //     (Seed included) give bit-identical weights. All randomness comes from
 //     a math/rand/v2 PCG seeded by (Options.Seed, epoch); nothing global.
@@ -34,9 +47,13 @@
 //     fails with an error wrapping ErrDiverged.
 //   - An epoch allocates nothing but the goroutines that measure it in
 //     parallel when it has more than one chunk of 4096 patterns: buffers
-//     are made once per call to Train.
+//     are made once per call to Train, recording included (Update and its
+//     slices are reused).
 //   - Training uses one core (online updates are sequential by nature);
-//     measuring an epoch's loss and errors uses all of them, with results
-//     that do not depend on how many.
+//     measuring an epoch's loss and errors uses up to Options.Workers
+//     goroutines (by default GOMAXPROCS, read once when Train starts),
+//     with results that do not depend on how many.
+//   - Recording changes nothing: with or without a Recorder, the same
+//     weights to the bit.
 //   - Anything caused by the data or the options is an error, never a panic.
 package fit

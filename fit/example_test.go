@@ -46,3 +46,45 @@ func ExampleNetwork_ScoresTo() {
 	// x=0.25 scores=[0.75 0.25] class=0
 	// x=0.75 scores=[0.25 0.75] class=1
 }
+
+// trace prints each epoch and the first updates of the first epoch.
+type trace struct{ shown int }
+
+func (r *trace) RecordEpoch(s fit.EpochStats) error {
+	fmt.Printf("epoch %d: loss %.4f, %d errors\n", s.Epoch, s.Loss, s.Errors)
+	return nil
+}
+
+func (r *trace) RecordUpdate(u *fit.Update) {
+	if r.shown < 3 {
+		r.shown++
+		fmt.Printf("  row %d class %d: target %v output %.4f step %+.4f\n", u.Row, u.Class, u.Targets[0], u.Outputs[0], u.Steps[0])
+	}
+}
+
+// A recorder that implements RecordUpdate sees every change to the
+// weights: for the single unit here, Δw = step · x and Δb = step, with
+// step = rate · (target − output). By hand from zero weights: row 1 (0,1)
+// has output 0, step 0.25; row 2 (1,0) then has output b = 0.25, step
+// 0.25·0.75; row 3 (1,1) has output 0.1875 + 0.25 + 0.4375 = 0.875.
+func ExampleUpdateRecorder() {
+	or := fit.Patterns{Width: 2, Values: []float64{
+		0, 0,
+		0, 1,
+		1, 0,
+		1, 1,
+	}}
+	classes := []int{0, 1, 1, 1}
+	result, err := fit.Train(or, classes, 2, fit.Options{Seed: 1, Unit: fit.Linear, Rate: 0.25, Epochs: 3, Recorder: &trace{}})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Println("stop:", result.Stop)
+	// Output:
+	//   row 1 class 1: target 1 output 0.0000 step +0.2500
+	//   row 2 class 1: target 1 output 0.2500 step +0.1875
+	//   row 3 class 1: target 1 output 0.8750 step +0.0312
+	// epoch 1: loss 0.1163, 0 errors
+	// stop: zero-errors
+}

@@ -75,25 +75,32 @@ func (n *Network) ScoresTo(dst, x []float64) []float64 {
 // going to the lowest class index. It panics if len(x) != Inputs.
 func (n *Network) Classify(x []float64) int {
 	n.checkInputs(x)
-	return n.classify(x, nil)
-}
-
-// classify returns the class of x and, if outputs is not nil, stores the
-// unit outputs in it.
-func (n *Network) classify(x, outputs []float64) int {
-	if len(n.Weights) == 1 {
-		y := n.output(0, x)
-		if outputs != nil {
-			outputs[0] = y
-		}
-		scores := [2]float64{n.On + n.Off - y, y}
-		return Decide(scores[:])
-	}
-	if outputs == nil {
+	var buf [16]float64 // outputs of up to 16 units without allocating
+	outputs := buf[:0]
+	if len(n.Weights) <= len(buf) {
+		outputs = buf[:len(n.Weights)]
+	} else {
 		outputs = make([]float64, len(n.Weights))
 	}
+	return n.classify(x, outputs)
+}
+
+// classify stores the unit outputs for x in outputs, one per unit, and
+// returns the class they decide.
+func (n *Network) classify(x, outputs []float64) int {
 	for j := range n.Weights {
 		outputs[j] = n.output(j, x)
+	}
+	return n.decide(outputs)
+}
+
+// decide returns the class that the unit outputs decide: a single unit of
+// output y scores the classes (On+Off−y, y); one unit per class scores each
+// class with its output. Decide then picks.
+func (n *Network) decide(outputs []float64) int {
+	if len(outputs) == 1 {
+		scores := [2]float64{n.On + n.Off - outputs[0], outputs[0]}
+		return Decide(scores[:])
 	}
 	return Decide(outputs)
 }

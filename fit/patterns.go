@@ -1,12 +1,9 @@
 package fit
 
-import (
-	"fmt"
-	"math"
-)
+import "fmt"
 
-// Patterns is a row-major matrix of encoded input patterns, Width inputs
-// per row. Nothing in this package modifies Values.
+// Patterns is the dense Store: a row-major matrix of encoded input
+// patterns, Width inputs per row. Nothing in this package modifies Values.
 type Patterns struct {
 	// Width is the number of inputs of each pattern. It may be 0: such
 	// patterns feed only the bias.
@@ -27,12 +24,18 @@ func (p Patterns) Len() int {
 	return len(p.Values) / p.Width
 }
 
+// Inputs returns Width.
+func (p Patterns) Inputs() int { return p.Width }
+
 // Row returns pattern i. The slice aliases Values and must not be
 // modified; its capacity ends with the row. It panics if i is out of range.
 func (p Patterns) Row(i int) []float64 {
 	start, end := i*p.Width, (i+1)*p.Width
 	return p.Values[start:end:end]
 }
+
+// RowTo returns Row(i), a view of Values; dst is not used.
+func (p Patterns) RowTo(_ []float64, i int) []float64 { return p.Row(i) }
 
 // check reports whether p is well formed and holds exactly rows patterns
 // of finite values.
@@ -50,7 +53,7 @@ func (p Patterns) check(rows int) error {
 		return fmt.Errorf("fit: %d patterns but %d class labels", len(p.Values)/p.Width, rows)
 	}
 	for k, v := range p.Values {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
+		if !finite(v) {
 			return fmt.Errorf("fit: pattern %d input %d is not finite (%v)", k/p.Width, k%p.Width, v)
 		}
 	}

@@ -1,7 +1,9 @@
 package fit
 
 import (
+	"context"
 	"errors"
+	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/blas"
@@ -14,8 +16,8 @@ import (
 // which never forms R.
 const maxEigenWidth = 2000
 
-// AutoRate returns the automatic learning rate for patterns p, with the
-// largest eigenvalue λmax and the trace of R = mean of x̃x̃ᵀ, x̃ = [x, 1].
+// AutoRate returns the automatic learning rate for the patterns of p, with
+// the largest eigenvalue λmax and the trace of R = mean of x̃x̃ᵀ, x̃ = [x, 1].
 //
 // Online (batch false) the rate is 0.5/tr(R): per-pattern LMS stays inside
 // its stability region for a fraction of 1/tr(R), and tr(R) ≥ λmax while
@@ -23,21 +25,22 @@ const maxEigenWidth = 2000
 // Batch, the rate is 1/λmax, half the bound of gradient descent on the
 // mean squared error.
 //
-// Bias-only patterns (Width 0) have R = [1]. Otherwise p must hold at
+// Bias-only patterns (no inputs) have R = [1]. Otherwise p must hold at
 // least one pattern.
-func AutoRate(p Patterns, batch bool) (rate, lambdaMax, traceR float64, err error) {
-	if p.Width > 0 && len(p.Values) == 0 {
+func AutoRate(p Store, batch bool) (rate, lambdaMax, traceR float64, err error) {
+	if p.Inputs() > 0 && p.Len() == 0 {
 		return 0, 0, 0, errors.New("fit: no patterns")
 	}
-	if err := p.check(p.Len()); err != nil {
+	if err := checkStore(p, p.Len()); err != nil {
 		return 0, 0, 0, err
 	}
-	return autoRate(p, batch)
+	return autoRate(context.Background(), p, batch)
 }
 
-// autoRate is AutoRate for patterns already checked.
-func autoRate(p Patterns, batch bool) (rate, lambdaMax, traceR float64, err error) {
-	lambdaMax, traceR, err = spectrum(p)
+// autoRate is AutoRate for patterns already checked. It stops with an
+// error wrapping ctx.Err() once ctx is done.
+func autoRate(ctx context.Context, p Store, batch bool) (rate, lambdaMax, traceR float64, err error) {
+	lambdaMax, traceR, err = spectrum(ctx, p)
 	if err != nil {
 		return 0, 0, 0, err
 	}
@@ -48,28 +51,44 @@ func autoRate(p Patterns, batch bool) (rate, lambdaMax, traceR float64, err erro
 }
 
 // spectrum returns λmax and tr(R) for the well-formed patterns p.
-func spectrum(p Patterns) (lambdaMax, traceR float64, err error) {
-	if p.Width == 0 {
+func spectrum(ctx context.Context, p Store) (lambdaMax, traceR float64, err error) {
+	switch width := p.Inputs(); {
+	case width == 0:
 		return 1, 1, nil
+	case width > maxEigenWidth:
+		return powerLambdaMax(ctx, p)
 	}
-	if p.Width > maxEigenWidth {
-		return powerLambdaMax(p)
+	return eigenLambdaMax(ctx, p)
+}
+
+// rateStopped returns the error of an automatic rate whose context is
+// done, or nil.
+func rateStopped(ctx context.Context) error {
+	if err := ctx.Err(); err != nil {
+		return fmt.Errorf("fit: automatic rate stopped: %w", err)
 	}
-	return eigenLambdaMax(p)
+	return nil
 }
 
 // eigenLambdaMax forms R with rank-k updates over blocks of patterns and
 // takes its largest eigenvalue with mat.EigenSym.
-func eigenLambdaMax(p Patterns) (lambdaMax, traceR float64, err error) {
+func eigenLambdaMax(ctx context.Context, p Store) (lambdaMax, traceR float64, err error) {
 	const blockRows = 256
-	n, d := p.Len(), p.Width+1
+	n, d := p.Len(), p.Inputs()+1
 	r := blas64.Symmetric{Uplo: blas.Upper, N: d, Stride: d, Data: make([]float64, d*d)}
 	block := blas64.General{Cols: d, Stride: d, Data: make([]float64, min(n, blockRows)*d)}
 	for start := 0; start < n; start += blockRows {
+		if start%ctxRows == 0 {
+			if err := rateStopped(ctx); err != nil {
+				return 0, 0, err
+			}
+		}
 		block.Rows = min(blockRows, n-start)
 		for k := range block.Rows {
 			row := block.Data[k*d : (k+1)*d]
-			copy(row, p.Row(start+k))
+			// A store that copies writes the pattern in place; copy is
+			// then a no-op.
+			copy(row, p.RowTo(row[:d-1], start+k))
 			row[d-1] = 1
 		}
 		blas64.Syrk(blas.Trans, 1/float64(n), block, 1, r)
@@ -88,14 +107,15 @@ func eigenLambdaMax(p Patterns) (lambdaMax, traceR float64, err error) {
 // powerLambdaMax estimates λmax by power iteration with v ← Rv computed as
 // the mean of x̃(x̃·v), never forming R. The Rayleigh quotient approaches
 // λmax from below.
-func powerLambdaMax(p Patterns) (lambdaMax, traceR float64, err error) {
+func powerLambdaMax(ctx context.Context, p Store) (lambdaMax, traceR float64, err error) {
 	const (
 		maxIterations = 500
 		tolerance     = 1e-9
 	)
-	n, width := p.Len(), p.Width
+	n, width := p.Len(), p.Inputs()
+	buf := make([]float64, width)
 	for i := range n {
-		x := p.Row(i)
+		x := p.RowTo(buf, i)
 		traceR += dot(x, x) + 1
 	}
 	traceR /= float64(n)
@@ -109,9 +129,12 @@ func powerLambdaMax(p Patterns) (lambdaMax, traceR float64, err error) {
 	}
 	scale(1/math.Sqrt(dot(v, v)), v)
 	for range maxIterations {
+		if err := rateStopped(ctx); err != nil {
+			return 0, 0, err
+		}
 		clear(next)
 		for i := range n {
-			x := p.Row(i)
+			x := p.RowTo(buf, i)
 			s := dot(x, v[:width]) + v[width]
 			axpy(s, x, next[:width])
 			next[width] += s

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"math"
 	"testing"
 
@@ -56,7 +57,7 @@ func TestAutoRate(t *testing.T) {
 			if math.Abs(lambdaMax-want) > 1e-10*want {
 				t.Errorf("λmax = %v, SVD gives %v", lambdaMax, want)
 			}
-			powerLambda, powerTrace, err := powerLambdaMax(tc.patterns)
+			powerLambda, powerTrace, err := powerLambdaMax(context.Background(), tc.patterns)
 			if err != nil {
 				t.Fatal(err)
 			}

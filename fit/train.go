@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -23,12 +24,12 @@ const (
 	divergedLoss = 1e12
 )
 
-// Stop reasons of a Result.
+// Stop reasons of a Result. A Converger of Options.Stop may give others.
 const (
-	StopZeroErrors = "zero-errors"
-	StopConverged  = "converged"
-	StopEpochs     = "epochs"
-	StopOnePass    = "one-pass" // a OnePass rule's single epoch
+	StopZeroErrors = "zero-errors" // ZeroErrors
+	StopConverged  = "converged"   // LossChange
+	StopEpochs     = "epochs"      // Options.Epochs reached
+	StopOnePass    = "one-pass"    // a OnePass rule's single epoch
 )
 
 // Options control Train. The zero value trains logistic units with the
@@ -44,8 +45,9 @@ type Options struct {
 	// Rate is the learning rate; 0 means automatic (see AutoRate).
 	// A negative rate is an error.
 	Rate float64
-	// Tolerance stops training once the loss changes by less than
-	// Tolerance·max(1, previous loss) in an epoch; 0 means 1e-9.
+	// Tolerance is the tolerance of the default LossChange rule: training
+	// stops once the loss changes by less than Tolerance·max(1, previous
+	// loss) in an epoch; 0 means 1e-9. It is not used when Stop is set.
 	Tolerance float64
 	// Seed seeds the order in which each online epoch visits the patterns.
 	Seed uint64
@@ -53,8 +55,25 @@ type Options struct {
 	// per pattern (full-batch gradient descent, whose fixed point for
 	// linear units is the least-squares solution).
 	Batch bool
-	// KeepGoing trains on after a training epoch with zero errors.
+	// KeepGoing trains on after a training epoch with zero errors: it
+	// leaves ZeroErrors out of the default stop rules. It is not used when
+	// Stop is set.
 	KeepGoing bool
+
+	// Stop are the rules that may end training early, asked in order
+	// after each epoch; the first to give a reason ends it. nil means
+	// ZeroErrors{} (unless KeepGoing), then LossChange{Tolerance}. Besides
+	// them, training always ends after Epochs epochs (StopEpochs) and
+	// after the single epoch of a OnePass rule (StopOnePass, before any
+	// rule is asked).
+	Stop []Converger
+	// Recorder, if not nil, is told of every epoch, and of every update
+	// when it is an UpdateRecorder.
+	Recorder Recorder
+	// Workers is the most goroutines that measure an epoch; 0 means
+	// runtime.GOMAXPROCS(0), read once when Train starts. Results do not
+	// depend on it. A negative count is an error.
+	Workers int
 }
 
 // EpochStats are measured after an epoch with the weights it ends with.
@@ -72,47 +91,70 @@ type Result struct {
 	LambdaMax float64 // largest eigenvalue of R = mean of x̃x̃ᵀ, x̃ = [x, 1]
 	TraceR    float64 // trace of R
 	History   []EpochStats
-	Stop      string // StopZeroErrors, StopConverged or StopEpochs
+	// Stop is why training ended: StopOnePass, StopEpochs or the reason
+	// of the stop rule that ended it (by default StopZeroErrors or
+	// StopConverged).
+	Stop string
 }
 
-// Train fits a network to patterns p with class labels classes[i] in
-// [0, numClasses), numClasses ≥ 2. It neither modifies p nor classes.
-func Train(p Patterns, classes []int, numClasses int, opts Options) (*Result, error) {
-	t, err := newTrainer(p, classes, numClasses, opts)
+// Train is TrainContext with a context that is never cancelled.
+func Train(p Store, classes []int, numClasses int, opts Options) (*Result, error) {
+	return TrainContext(context.Background(), p, classes, numClasses, opts)
+}
+
+// TrainContext fits a network to the patterns of p with class labels
+// classes[i] in [0, numClasses), numClasses ≥ 2. It neither modifies p nor
+// classes.
+//
+// It checks ctx between epochs and every few thousand patterns within
+// one; once ctx is done it returns an error wrapping ctx.Err().
+func TrainContext(ctx context.Context, p Store, classes []int, numClasses int, opts Options) (*Result, error) {
+	t, err := newTrainer(ctx, p, classes, numClasses, opts)
 	if err != nil {
 		return nil, err
 	}
-	return t.run()
+	return t.run(ctx)
 }
+
+// ctxRows is how many patterns a pass goes through between looks at its
+// context: often enough to stop promptly, rarely enough to cost nothing.
+const ctxRows = 4096
 
 // trainer holds one run's state and every buffer it needs, so that an
 // epoch allocates nothing but the goroutines of a parallel measurement.
 type trainer struct {
-	patterns Patterns
-	n        int // patterns
-	classes  []int
-	rule     Rule
-	opts     Options
-	onePass  bool // the rule is OnePass: one epoch
-	result   Result
+	store   Store
+	kernels RowKernels // the store's fast path, or nil
+	row     []float64  // scratch row of the training pass, for stores that copy
+	n       int        // patterns
+	classes []int
+	rule    Rule
+	opts    Options
+	onePass bool // the rule is OnePass: one epoch
+	result  Result
 
 	net     *Network
-	weights []float64 // units × Width, the storage of net.Weights
+	weights []float64 // units × width, the storage of net.Weights
 	biases  []float64 // net.Biases
 
 	order []int // online visiting order
 	pcg   *rand.PCG
 	rng   *rand.Rand
 
-	sumWeights []float64 // batch accumulators, units × Width
+	sumWeights []float64 // batch accumulators, units × width
 	sumBiases  []float64
-	outputs    []float64
+	outputs    []float64 // per unit: net inputs, then outputs
+	steps      []float64 // per unit: a pattern's steps (online) or signals (batch)
+
+	updates UpdateRecorder // Recorder, when it records updates
+	update  Update         // handed to updates, its slices reused
 
 	chunkStats   []EpochStats // per measurement chunk
 	chunkOutputs [][]float64  // per measuring goroutine
+	chunkRows    [][]float64  // per measuring goroutine: scratch rows
 }
 
-func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*trainer, error) {
+func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opts Options) (*trainer, error) {
 	if numClasses < 2 {
 		return nil, fmt.Errorf("fit: %d classes, want at least 2", numClasses)
 	}
@@ -120,8 +162,13 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 	if n == 0 {
 		return nil, errors.New("fit: no patterns")
 	}
-	if err := p.check(n); err != nil {
+	if err := checkStore(p, n); err != nil {
 		return nil, err
+	}
+	if dense, ok := p.(Patterns); ok && dense.Width == 0 {
+		// Bias-only patterns may leave Rows unset: the labels count them.
+		dense.Rows = n
+		p = dense
 	}
 	for i, c := range classes {
 		if c < 0 || c >= numClasses {
@@ -143,8 +190,7 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 		return nil, fmt.Errorf("fit: unknown unit %d", int(unit))
 	}
 
-	p.Rows = n
-	rate, lambdaMax, traceR, err := autoRate(p, opts.Batch)
+	rate, lambdaMax, traceR, err := autoRate(ctx, p, opts.Batch)
 	if err != nil {
 		return nil, err
 	}
@@ -160,20 +206,26 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 		rate = opts.Rate
 	}
 
-	units, width := unitCount(numClasses), p.Width
+	units, width := unitCount(numClasses), p.Inputs()
 	t := &trainer{
-		patterns: p,
-		n:        n,
-		classes:  classes,
-		rule:     opts.Rule,
-		opts:     opts,
-		onePass:  onePass,
-		result:   Result{Rate: rate, RateAuto: auto, LambdaMax: lambdaMax, TraceR: traceR},
-		weights:  make([]float64, units*width),
-		biases:   make([]float64, units),
-		outputs:  make([]float64, units),
+		store:   p,
+		n:       n,
+		classes: classes,
+		rule:    opts.Rule,
+		opts:    opts,
+		onePass: onePass,
+		result:  Result{Rate: rate, RateAuto: auto, LambdaMax: lambdaMax, TraceR: traceR},
+		weights: make([]float64, units*width),
+		biases:  make([]float64, units),
+		outputs: make([]float64, units),
+		steps:   make([]float64, units),
 
 		chunkStats: make([]EpochStats, (n+measureChunk-1)/measureChunk),
+	}
+	if k, ok := p.(RowKernels); ok {
+		t.kernels = k
+	} else {
+		t.row = make([]float64, width)
 	}
 	t.net = &Network{
 		Rule:    opts.Rule.Name(),
@@ -188,8 +240,13 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 	for j := range units {
 		t.net.Weights[j] = t.weights[j*width : (j+1)*width : (j+1)*width]
 	}
-	for range min(runtime.GOMAXPROCS(0), len(t.chunkStats)) {
+	for range min(opts.Workers, len(t.chunkStats)) {
 		t.chunkOutputs = append(t.chunkOutputs, make([]float64, units))
+		var row []float64
+		if t.kernels == nil {
+			row = make([]float64, width)
+		}
+		t.chunkRows = append(t.chunkRows, row)
 	}
 	if opts.Batch || onePass {
 		t.sumWeights = make([]float64, units*width)
@@ -198,6 +255,15 @@ func newTrainer(p Patterns, classes []int, numClasses int, opts Options) (*train
 		t.order = make([]int, n)
 		t.pcg = rand.NewPCG(opts.Seed, 0)
 		t.rng = rand.New(t.pcg)
+	}
+	if u, ok := opts.Recorder.(UpdateRecorder); ok {
+		t.updates = u
+		t.update = Update{
+			Targets:  make([]float64, units),
+			Outputs:  make([]float64, units),
+			Steps:    make([]float64, units),
+			Deferred: opts.Batch || onePass,
+		}
 	}
 	return t, nil
 }
@@ -221,48 +287,94 @@ func (o *Options) setDefaults() error {
 	case o.Tolerance == 0:
 		o.Tolerance = DefaultTolerance
 	}
+	switch {
+	case o.Workers < 0:
+		return fmt.Errorf("fit: negative worker count %d", o.Workers)
+	case o.Workers == 0:
+		o.Workers = runtime.GOMAXPROCS(0)
+	}
+	if o.Stop == nil {
+		if !o.KeepGoing {
+			o.Stop = append(o.Stop, ZeroErrors{})
+		}
+		o.Stop = append(o.Stop, LossChange{Tolerance: o.Tolerance})
+	}
+	for k, rule := range o.Stop {
+		if rule == nil {
+			return fmt.Errorf("fit: stop rule %d is nil", k)
+		}
+	}
 	return nil
 }
 
-func (t *trainer) run() (*Result, error) {
-	previous := math.NaN()
+func (t *trainer) run(ctx context.Context) (*Result, error) {
 	for epoch := 1; epoch <= t.opts.Epochs; epoch++ {
-		stats := t.epoch(epoch)
+		stats, err := t.epoch(ctx, epoch)
+		if err != nil {
+			return nil, err
+		}
 		t.result.History = append(t.result.History, stats)
+		if t.opts.Recorder != nil {
+			if err := t.opts.Recorder.RecordEpoch(stats); err != nil {
+				return nil, fmt.Errorf("fit: recorder at epoch %d: %w", epoch, err)
+			}
+		}
 		if !t.weightsFinite() || !finite(stats.Loss) || stats.Loss > divergedLoss {
 			return nil, fmt.Errorf("%w at epoch %d (rate %.4g, stable below 2/λmax = %.4g)",
 				ErrDiverged, epoch, t.result.Rate, 2/t.result.LambdaMax)
 		}
-		switch {
-		case t.onePass:
-			t.result.Stop = StopOnePass
-		case stats.Errors == 0 && !t.opts.KeepGoing:
-			t.result.Stop = StopZeroErrors
-		case epoch > 1 && math.Abs(stats.Loss-previous) < t.opts.Tolerance*math.Max(1, previous):
-			t.result.Stop = StopConverged
-		case epoch == t.opts.Epochs:
-			t.result.Stop = StopEpochs
-		}
-		if t.result.Stop != "" {
+		if t.result.Stop = t.stopReason(); t.result.Stop != "" {
 			break
 		}
-		previous = stats.Loss
 	}
 	t.result.Network = t.net
 	return &t.result, nil
 }
 
+// stopReason returns why training ends after the last epoch of the
+// history, or "" to go on.
+func (t *trainer) stopReason() string {
+	if t.onePass {
+		return StopOnePass
+	}
+	for _, rule := range t.opts.Stop {
+		if reason := rule.Converged(t.result.History); reason != "" {
+			return reason
+		}
+	}
+	if len(t.result.History) == t.opts.Epochs {
+		return StopEpochs
+	}
+	return ""
+}
+
+// stopped returns the error of a run whose context is done, or nil.
+func stopped(ctx context.Context, epoch int) error {
+	if err := ctx.Err(); err != nil {
+		return fmt.Errorf("fit: training stopped in epoch %d: %w", epoch, err)
+	}
+	return nil
+}
+
 // epoch trains one epoch and measures the weights it ends with.
-func (t *trainer) epoch(epoch int) EpochStats {
+func (t *trainer) epoch(ctx context.Context, epoch int) (EpochStats, error) {
+	if err := stopped(ctx, epoch); err != nil {
+		return EpochStats{}, err
+	}
+	var err error
 	switch {
 	case t.onePass:
-		t.onePassEpoch()
+		err = t.onePassEpoch(ctx, epoch)
 	case t.opts.Batch:
-		t.batchEpoch()
+		err = t.batchEpoch(ctx, epoch)
 	default:
-		t.onlineEpoch(epoch)
+		err = t.onlineEpoch(ctx, epoch)
 	}
-	return t.measure(epoch)
+	if err != nil {
+		return EpochStats{}, err
+	}
+	stats := t.measure(ctx, epoch)
+	return stats, stopped(ctx, epoch)
 }
 
 // target returns unit j's target for a pattern of class c.
@@ -277,23 +389,92 @@ func (t *trainer) target(j, c int) float64 {
 	return t.net.Off
 }
 
+// The pattern kernels of the trainer. rowOf fetches pattern i once per
+// visit; netInputsTo and addRowTo then compute with it for every unit at
+// once, or with the store's RowKernels, which need no row (rowOf returns
+// nil). Choosing once per pattern, not per unit, keeps the dense path as
+// fast as plain calls to dot and axpy.
+
+// rowOf returns pattern i, written into buf by a store that copies, or nil
+// when the store's kernels stand in for it.
+func (t *trainer) rowOf(i int, buf []float64) []float64 {
+	if t.kernels != nil {
+		return nil
+	}
+	return t.store.RowTo(buf, i)
+}
+
+// netInputsTo stores the net input w_j·x + b_j of every unit j for pattern
+// i, whose row is x, in dst.
+func (t *trainer) netInputsTo(dst []float64, i int, x []float64) {
+	width := len(t.weights) / len(t.biases)
+	if t.kernels != nil {
+		for j := range dst {
+			dst[j] = t.kernels.DotRow(i, t.weights[j*width:(j+1)*width]) + t.biases[j]
+		}
+		return
+	}
+	for j := range dst {
+		dst[j] = dot(t.weights[j*width:(j+1)*width], x) + t.biases[j]
+	}
+}
+
+// addRowTo adds steps[j] times pattern i, whose row is x, to row j of dst
+// (units × inputs) for every unit j; with skipZero, a zero step is not
+// added.
+func (t *trainer) addRowTo(dst, steps []float64, i int, x []float64, skipZero bool) {
+	width := len(dst) / len(steps)
+	for j, step := range steps {
+		if skipZero && step == 0 {
+			continue
+		}
+		if t.kernels != nil {
+			t.kernels.AxpyRow(step, i, dst[j*width:(j+1)*width])
+		} else {
+			axpy(step, x, dst[j*width:(j+1)*width])
+		}
+	}
+}
+
 // onlineEpoch updates the weights after each pattern, visiting them in an
 // order drawn from a PCG seeded by (Seed, epoch).
-func (t *trainer) onlineEpoch(epoch int) {
+func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 	t.shuffle(epoch)
-	rate, width := t.result.Rate, t.patterns.Width
-	for _, i := range t.order {
-		x, c := t.patterns.Row(i), t.classes[i]
-		for j := range t.biases {
-			weights := t.weights[j*width : (j+1)*width]
-			output := t.net.Unit.activate(dot(weights, x) + t.biases[j])
-			step := rate * t.rule.Signal(t.target(j, c), output)
+	rate := t.result.Rate
+	for k, i := range t.order {
+		if k%ctxRows == ctxRows-1 {
+			if err := stopped(ctx, epoch); err != nil {
+				return err
+			}
+		}
+		x, c := t.rowOf(i, t.row), t.classes[i]
+		t.netInputsTo(t.outputs, i, x)
+		for j, z := range t.outputs {
+			target := t.target(j, c)
+			output := t.net.Unit.activate(z)
+			t.steps[j] = rate * t.rule.Signal(target, output)
+			if t.updates != nil {
+				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, t.steps[j]
+			}
+		}
+		t.addRowTo(t.weights, t.steps, i, x, true)
+		for j, step := range t.steps {
 			if step != 0 {
-				axpy(step, x, weights)
 				t.biases[j] += step
 			}
 		}
+		if t.updates != nil {
+			t.recordUpdate(epoch, i)
+		}
 	}
+	return nil
+}
+
+// recordUpdate hands the update of pattern i, whose per-unit values are
+// in t.update, to the update recorder.
+func (t *trainer) recordUpdate(epoch, i int) {
+	t.update.Epoch, t.update.Row, t.update.Class = epoch, i, t.classes[i]
+	t.updates.RecordUpdate(&t.update)
 }
 
 // shuffle sets t.order to the visiting order of epoch: a function of
@@ -309,64 +490,89 @@ func (t *trainer) shuffle(epoch int) {
 
 // batchEpoch applies the mean of the per-pattern updates once, all computed
 // with the weights the epoch starts with.
-func (t *trainer) batchEpoch() {
-	t.sumUpdates()
+func (t *trainer) batchEpoch(ctx context.Context, epoch int) error {
 	step := t.result.Rate / float64(t.n)
+	if err := t.sumUpdates(ctx, epoch, step); err != nil {
+		return err
+	}
 	axpy(step, t.sumWeights, t.weights)
 	axpy(step, t.sumBiases, t.biases)
+	return nil
 }
 
 // onePassEpoch applies rate times the summed updates of a OnePass rule.
 // Summing before scaling keeps equal sums equal (for 0/1 inputs the sums
 // are whole numbers, exact in float64), so ties between classes stay ties
 // whatever the rate and the order of the rows.
-func (t *trainer) onePassEpoch() {
-	t.sumUpdates()
+func (t *trainer) onePassEpoch(ctx context.Context, epoch int) error {
+	if err := t.sumUpdates(ctx, epoch, t.result.Rate); err != nil {
+		return err
+	}
 	axpy(t.result.Rate, t.sumWeights, t.weights)
 	axpy(t.result.Rate, t.sumBiases, t.biases)
+	return nil
 }
 
 // sumUpdates sums each pattern's update, without the rate, computed with
-// the weights the epoch starts with.
-func (t *trainer) sumUpdates() {
+// the weights the epoch starts with. rate is the factor the sums will be
+// applied with, which the recorded updates' steps include.
+func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error {
 	clear(t.sumWeights)
 	clear(t.sumBiases)
-	width := t.patterns.Width
 	for i, c := range t.classes {
-		x := t.patterns.Row(i)
-		for j := range t.biases {
-			output := t.net.Unit.activate(dot(t.weights[j*width:(j+1)*width], x) + t.biases[j])
-			signal := t.rule.Signal(t.target(j, c), output)
-			axpy(signal, x, t.sumWeights[j*width:(j+1)*width])
+		if i%ctxRows == ctxRows-1 {
+			if err := stopped(ctx, epoch); err != nil {
+				return err
+			}
+		}
+		x := t.rowOf(i, t.row)
+		t.netInputsTo(t.outputs, i, x)
+		for j, z := range t.outputs {
+			target := t.target(j, c)
+			output := t.net.Unit.activate(z)
+			t.steps[j] = t.rule.Signal(target, output)
+			if t.updates != nil {
+				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, rate*t.steps[j]
+			}
+		}
+		t.addRowTo(t.sumWeights, t.steps, i, x, false)
+		for j, signal := range t.steps {
 			t.sumBiases[j] += signal
 		}
+		if t.updates != nil {
+			t.recordUpdate(epoch, i)
+		}
 	}
+	return nil
 }
 
 // measure returns the loss and the error count with the current weights.
 //
 // The rows are measured in chunks of measureChunk, whose sums are added in
 // chunk order, so the result is the same however many goroutines measure:
-// one per core (up to the number of chunks) when there is more than one
-// chunk and more than one core.
-func (t *trainer) measure(epoch int) EpochStats {
+// up to Options.Workers (and the number of chunks). Once ctx is done no
+// chunk is started, and the result is not to be used.
+func (t *trainer) measure(ctx context.Context, epoch int) EpochStats {
 	chunks := (t.n + measureChunk - 1) / measureChunk
-	workers := min(runtime.GOMAXPROCS(0), chunks, len(t.chunkOutputs))
+	workers := min(chunks, len(t.chunkOutputs))
 	if workers <= 1 {
 		for k := range chunks {
-			t.chunkStats[k] = t.measureChunk(k, t.outputs)
+			if ctx.Err() != nil {
+				break
+			}
+			t.chunkStats[k] = t.measureChunk(k, t.outputs, t.row)
 		}
 	} else {
 		var next atomic.Int64
 		var wg sync.WaitGroup
 		for w := range workers {
 			wg.Add(1)
-			go func(outputs []float64) {
+			go func(outputs, row []float64) {
 				defer wg.Done()
-				for k := int(next.Add(1) - 1); k < chunks; k = int(next.Add(1) - 1) {
-					t.chunkStats[k] = t.measureChunk(k, outputs)
+				for k := int(next.Add(1) - 1); k < chunks && ctx.Err() == nil; k = int(next.Add(1) - 1) {
+					t.chunkStats[k] = t.measureChunk(k, outputs, row)
 				}
-			}(t.chunkOutputs[w])
+			}(t.chunkOutputs[w], t.chunkRows[w])
 		}
 		wg.Wait()
 	}
@@ -383,12 +589,17 @@ func (t *trainer) measure(epoch int) EpochStats {
 const measureChunk = 4096
 
 // measureChunk returns the error count and the summed squared misses of
-// chunk k, using outputs as its scratch buffer.
-func (t *trainer) measureChunk(k int, outputs []float64) EpochStats {
+// chunk k, using outputs and row as its scratch buffers. Its outputs and
+// decisions are those of Network.Classify.
+func (t *trainer) measureChunk(k int, outputs, row []float64) EpochStats {
 	var stats EpochStats
 	for i := k * measureChunk; i < min((k+1)*measureChunk, t.n); i++ {
-		c := t.classes[i]
-		if t.net.classify(t.patterns.Row(i), outputs) != c {
+		x, c := t.rowOf(i, row), t.classes[i]
+		t.netInputsTo(outputs, i, x)
+		for j, z := range outputs {
+			outputs[j] = t.net.Unit.activate(z)
+		}
+		if t.net.decide(outputs) != c {
 			stats.Errors++
 		}
 		for j, output := range outputs {

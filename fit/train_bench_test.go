@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"fmt"
 	"math/rand/v2"
 	"testing"
@@ -17,7 +18,7 @@ func BenchmarkEpoch(b *testing.B) {
 				for _, batch := range []bool{false, true} {
 					name := fmt.Sprintf("rows=%d/inputs=%d/classes=%d/%s", rows, inputs, classes, modeName(batch))
 					b.Run(name, func(b *testing.B) {
-						tr, err := newTrainer(patterns, labels, classes, Options{Batch: batch})
+						tr, err := newTrainer(context.Background(), patterns, labels, classes, Options{Batch: batch})
 						if err != nil {
 							b.Fatal(err)
 						}
@@ -25,7 +26,7 @@ func BenchmarkEpoch(b *testing.B) {
 						epoch := 0
 						for b.Loop() {
 							epoch++
-							tr.epoch(epoch)
+							tr.epoch(context.Background(), epoch)
 						}
 						b.ReportMetric(float64(rows)*float64(epoch)/b.Elapsed().Seconds(), "patterns/s")
 					})
@@ -42,12 +43,12 @@ func BenchmarkAutoRate(b *testing.B) {
 		patterns, _ := randomPatterns(1000, inputs, 2)
 		for _, method := range []struct {
 			name string
-			run  func(Patterns) (float64, float64, error)
+			run  func(context.Context, Store) (float64, float64, error)
 		}{{"eigen", eigenLambdaMax}, {"power", powerLambdaMax}} {
 			b.Run(fmt.Sprintf("inputs=%d/%s", inputs, method.name), func(b *testing.B) {
 				b.ReportAllocs()
 				for b.Loop() {
-					if _, _, err := method.run(patterns); err != nil {
+					if _, _, err := method.run(context.Background(), patterns); err != nil {
 						b.Fatal(err)
 					}
 				}

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"errors"
 	"math"
 	"math/rand/v2"
@@ -128,7 +129,7 @@ func TestDeterminism(t *testing.T) {
 		}
 	})
 	t.Run("epochs visit in different orders", func(t *testing.T) {
-		tr, err := newTrainer(patterns, species, 3, Options{Seed: 5})
+		tr, err := newTrainer(context.Background(), patterns, species, 3, Options{Seed: 5})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -304,21 +305,33 @@ func TestStopReasons(t *testing.T) {
 	}
 }
 
+// nopRecorder records every update and does nothing with it.
+type nopRecorder struct{}
+
+func (nopRecorder) RecordEpoch(EpochStats) error { return nil }
+func (nopRecorder) RecordUpdate(*Update)         {}
+
 func TestEpochAllocatesNothing(t *testing.T) {
 	rows, species := readIris(t)
 	patterns := standardized(rows)
-	for _, batch := range []bool{false, true} {
-		tr, err := newTrainer(patterns, species, 3, Options{Batch: batch})
+	for _, tc := range []struct {
+		batch    bool
+		recorder Recorder
+	}{{false, nil}, {true, nil}, {false, nopRecorder{}}, {true, nopRecorder{}}} {
+		batch := tc.batch
+		tr, err := newTrainer(context.Background(), patterns, species, 3, Options{Batch: batch, Recorder: tc.recorder})
 		if err != nil {
 			t.Fatal(err)
 		}
 		epoch := 0
 		allocs := testing.AllocsPerRun(20, func() {
 			epoch++
-			tr.epoch(epoch)
+			if _, err := tr.epoch(context.Background(), epoch); err != nil {
+				t.Fatal(err)
+			}
 		})
 		if allocs != 0 { // the package's invariant: buffers are made once per Train
-			t.Errorf("batch %v: %v allocations per epoch, want 0", batch, allocs)
+			t.Errorf("batch %v, recorder %T: %v allocations per epoch, want 0", batch, tc.recorder, allocs)
 		}
 	}
 }

@@ -44,7 +44,7 @@ the tool and says nothing about real kilns.
 	return cmd
 }
 
-func runDemo(_ context.Context, opts demoOptions, stdout io.Writer) error {
+func runDemo(ctx context.Context, opts demoOptions, stdout io.Writer) error {
 	format, err := reportFormat(opts.format)
 	if err != nil {
 		return err
@@ -59,7 +59,7 @@ func runDemo(_ context.Context, opts demoOptions, stdout io.Writer) error {
 	}
 	const folds, seed = 10, 1
 	learner := evaluate.Learner{Fit: fit.Options{Rule: fit.Delta{}, Seed: seed}}
-	s, err := evaluate.RunStudy(d, learner, folds, seed)
+	s, err := evaluate.RunStudy(ctx, d, learner, folds, seed)
 	if err != nil {
 		return err
 	}

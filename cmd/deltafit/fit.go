@@ -134,7 +134,7 @@ beside the majority-class and Hebbian baselines.
 	return cmd
 }
 
-func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
+func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
 	format, err := reportFormat(opts.format)
 	if err != nil {
 		return err
@@ -152,7 +152,7 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 	if err != nil {
 		return err
 	}
-	study, err := evaluate.RunStudy(d, learner, opts.folds, opts.learn.seed)
+	study, err := evaluate.RunStudy(ctx, d, learner, opts.folds, opts.learn.seed)
 	if err != nil {
 		return divergenceHint(err, opts.learn)
 	}

@@ -32,15 +32,16 @@ type ConflictGroup struct {
 // FindConflicts groups the rows of p by pattern and reports the groups
 // holding more than one class, listing at most the first most of them.
 // classes are the class indexes of the rows, into labels.
-func FindConflicts(p fit.Patterns, classes []int, labels []string, most int) Conflicts {
+func FindConflicts(p fit.Store, classes []int, labels []string, most int) Conflicts {
 	n := len(classes)
 	c := Conflicts{Groups: []ConflictGroup{}}
 	counts := make([]int, len(labels))
+	buf := make([]float64, p.Inputs())
 	for _, rows := range groupRows(n, func(r int) string {
-		if p.Width == 0 {
+		if p.Inputs() == 0 {
 			return ""
 		}
-		return patternKey(p.Row(r))
+		return patternKey(p.RowTo(buf, r))
 	}) {
 		clear(counts)
 		for _, r := range rows {

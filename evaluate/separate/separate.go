@@ -90,7 +90,7 @@ type Options struct {
 // (0-based pattern indexes) can be split by a hyperplane, and returns the
 // verified proof. Rows on neither side are ignored; a row on both sides is
 // an error. It does not modify p.
-func Separate(p fit.Patterns, positive, negative []int, opts Options) (*Result, error) {
+func Separate(p fit.Store, positive, negative []int, opts Options) (*Result, error) {
 	if len(positive) == 0 || len(negative) == 0 {
 		return nil, ErrEmptySide
 	}
@@ -101,10 +101,10 @@ func Separate(p fit.Patterns, positive, negative []int, opts Options) (*Result, 
 	if c := sharedPattern(p, pos, neg); c != nil {
 		return verified(p, positive, negative, &Result{Verdict: NotSeparable, Certificate: c})
 	}
-	if limit := cmp.Or(opts.MaxInputs, MaxInputs); p.Width > limit {
+	if limit := cmp.Or(opts.MaxInputs, MaxInputs); p.Inputs() > limit {
 		return &Result{Verdict: TooManyInputs, Reason: fmt.Sprintf(
 			"not solved: %d inputs are over the cap of %d for the exact linear program, whose time grows about as the fourth power of the inputs",
-			p.Width, limit)}, nil
+			p.Inputs(), limit)}, nil
 	}
 	cert, w, distance, err := search(p, pos.rows, neg.rows, opts.Seed)
 	switch {
@@ -130,7 +130,7 @@ const (
 // the wrong side of its hyperplane, the worst first, join the working set,
 // which grows strictly until the direction separates every row. distance
 // is the hull distance of the last working set.
-func search(p fit.Patterns, pos, neg []int, seed uint64) (cert *Certificate, w *Witness, distance float64, err error) {
+func search(p fit.Store, pos, neg []int, seed uint64) (cert *Certificate, w *Witness, distance float64, err error) {
 	workPos, workNeg := pos, neg
 	if len(pos)+len(neg) > wholeProgram {
 		workPos, workNeg = spread(pos, startRows), spread(neg, startRows)
@@ -139,7 +139,8 @@ func search(p fit.Patterns, pos, neg []int, seed uint64) (cert *Certificate, w *
 	for _, r := range append(slices.Clone(workPos), workNeg...) {
 		inWork[r] = true
 	}
-	grow := max(p.Width+2, 50)
+	grow := max(p.Inputs()+2, 50)
+	buf := make([]float64, p.Inputs())
 	for {
 		h, err := solveHullRetry(p, workPos, workNeg, seed)
 		if err != nil {
@@ -167,7 +168,7 @@ func search(p fit.Patterns, pos, neg []int, seed uint64) (cert *Certificate, w *
 			var wrong []int
 			var depth []float64
 			for _, r := range side {
-				s := dot(weights, p.Row(r)) - cut
+				s := dot(weights, p.RowTo(buf, r)) - cut
 				if k == 1 {
 					s = -s
 				}
@@ -211,20 +212,21 @@ func spread(rows []int, n int) []int {
 
 // scoreRange returns the least score w·x of the positive rows and the
 // greatest of the negative rows.
-func scoreRange(p fit.Patterns, weights []float64, pos, neg []int) (low, high float64) {
+func scoreRange(p fit.Store, weights []float64, pos, neg []int) (low, high float64) {
 	low, high = math.Inf(1), math.Inf(-1)
+	buf := make([]float64, p.Inputs())
 	for _, r := range pos {
-		low = min(low, dot(weights, p.Row(r)))
+		low = min(low, dot(weights, p.RowTo(buf, r)))
 	}
 	for _, r := range neg {
-		high = max(high, dot(weights, p.Row(r)))
+		high = max(high, dot(weights, p.RowTo(buf, r)))
 	}
 	return low, high
 }
 
 // verified runs the independent check on r's proof; a proof that fails it
 // turns the result into Undecided with the reason.
-func verified(p fit.Patterns, positive, negative []int, r *Result) (*Result, error) {
+func verified(p fit.Store, positive, negative []int, r *Result) (*Result, error) {
 	var err error
 	switch {
 	case r.Certificate != nil:
@@ -238,7 +240,7 @@ func verified(p fit.Patterns, positive, negative []int, r *Result) (*Result, err
 	return r, nil
 }
 
-func checkRows(p fit.Patterns, positive, negative []int) error {
+func checkRows(p fit.Store, positive, negative []int) error {
 	n := p.Len()
 	side := make(map[int]bool, len(positive))
 	for _, r := range positive {
@@ -255,9 +257,12 @@ func checkRows(p fit.Patterns, positive, negative []int) error {
 			return fmt.Errorf("separate: row %d is on both sides of the split", r+1)
 		}
 	}
-	for k, v := range p.Values {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("separate: row %d input %d is not finite (%v)", k/p.Width+1, k%p.Width+1, v)
+	buf := make([]float64, p.Inputs())
+	for i := range n {
+		for j, v := range p.RowTo(buf, i) {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fmt.Errorf("separate: row %d input %d is not finite (%v)", i+1, j+1, v)
+			}
 		}
 	}
 	return nil
@@ -269,12 +274,13 @@ type patternSet struct {
 	first map[string]int // pattern key → first row
 }
 
-func uniquePatterns(p fit.Patterns, rows []int) patternSet {
+func uniquePatterns(p fit.Store, rows []int) patternSet {
 	s := patternSet{first: make(map[string]int, len(rows))}
 	sorted := slices.Clone(rows)
 	slices.Sort(sorted)
+	buf := make([]float64, p.Inputs())
 	for _, r := range sorted {
-		k := patternKey(p.Row(r))
+		k := patternKey(p.RowTo(buf, r))
 		if _, seen := s.first[k]; !seen {
 			s.first[k] = r
 			s.rows = append(s.rows, r)
@@ -285,9 +291,10 @@ func uniquePatterns(p fit.Patterns, rows []int) patternSet {
 
 // sharedPattern returns the two-row certificate of a pattern found on
 // both sides, the first such in row order, or nil.
-func sharedPattern(p fit.Patterns, pos, neg patternSet) *Certificate {
+func sharedPattern(p fit.Store, pos, neg patternSet) *Certificate {
+	buf := make([]float64, p.Inputs())
 	for _, r := range pos.rows {
-		if q, ok := neg.first[patternKey(p.Row(r))]; ok {
+		if q, ok := neg.first[patternKey(p.RowTo(buf, r))]; ok {
 			return &Certificate{Rows: []int{r + 1, q + 1}, Positive: []bool{true, false}, Weights: []float64{1, 1}}
 		}
 	}
@@ -308,10 +315,13 @@ func patternKey(row []float64) string {
 }
 
 // scale is the largest magnitude of an input, at least 1.
-func scale(p fit.Patterns) float64 {
+func scale(p fit.Store) float64 {
 	s := 1.0
-	for _, v := range p.Values {
-		s = max(s, math.Abs(v))
+	buf := make([]float64, p.Inputs())
+	for i := range p.Len() {
+		for _, v := range p.RowTo(buf, i) {
+			s = max(s, math.Abs(v))
+		}
 	}
 	return s
 }
@@ -319,4 +329,4 @@ func scale(p fit.Patterns) float64 {
 // zeroDistance is the hull distance below which the hulls are taken to
 // meet and a certificate is read off: well above the rounding of the
 // simplex solves, well below any distance real data shows.
-func zeroDistance(p fit.Patterns) float64 { return 1e-9 * scale(p) * float64(max(1, p.Width)) }
+func zeroDistance(p fit.Store) float64 { return 1e-9 * scale(p) * float64(max(1, p.Inputs())) }

@@ -46,18 +46,19 @@ type hull struct {
 
 // solveHull builds and solves the hull program for the rows pos and neg;
 // perturb is e, nil meaning 0.
-func solveHull(p fit.Patterns, pos, neg []int, perturb []float64) (*hull, error) {
-	d := p.Width
+func solveHull(p fit.Store, pos, neg []int, perturb []float64) (*hull, error) {
+	d := p.Inputs()
 	m, n := d+2, len(pos)+len(neg)+2*d
+	buf := make([]float64, d)
 	h := &hull{pos: pos, neg: neg, width: d, a: mat.NewDense(m, n, nil), cost: make([]float64, n)}
 	for c, r := range pos {
-		for j, v := range p.Row(r) {
+		for j, v := range p.RowTo(buf, r) {
 			h.a.Set(j, c, v)
 		}
 		h.a.Set(d, c, 1)
 	}
 	for c, r := range neg {
-		for j, v := range p.Row(r) {
+		for j, v := range p.RowTo(buf, r) {
 			h.a.Set(j, len(pos)+c, -v)
 		}
 		h.a.Set(d+1, len(pos)+c, 1)
@@ -66,6 +67,8 @@ func solveHull(p fit.Patterns, pos, neg []int, perturb []float64) (*hull, error)
 	b := make([]float64, m)
 	b[d], b[d+1] = 1, 1
 	basis := []int{0, len(pos)}
+	first := slices.Clone(p.RowTo(buf, pos[0])) // the rows of the starting basis
+	firstNeg := p.RowTo(buf, neg[0])
 	for j := 0; j < d; j++ {
 		h.a.Set(j, slack+j, 1)
 		h.a.Set(j, slack+d+j, -1)
@@ -75,7 +78,7 @@ func solveHull(p fit.Patterns, pos, neg []int, perturb []float64) (*hull, error)
 		}
 		// With λ on pos[0] and μ on neg[0] at 1, the slack of input j
 		// takes up b_j − (x_j − x'_j): s⁺ if that is ≥ 0, else s⁻.
-		if b[j]-(p.Row(pos[0])[j]-p.Row(neg[0])[j]) >= 0 {
+		if b[j]-(first[j]-firstNeg[j]) >= 0 {
 			basis = append(basis, slack+j)
 		} else {
 			basis = append(basis, slack+d+j)
@@ -93,7 +96,7 @@ func solveHull(p fit.Patterns, pos, neg []int, perturb []float64) (*hull, error)
 // (a pivot can make the basis numerically singular on degenerate data)
 // tries again twice with the columns in a seeded random order, which
 // changes the pivots it takes.
-func solveHullRetry(p fit.Patterns, pos, neg []int, seed uint64) (*hull, error) {
+func solveHullRetry(p fit.Store, pos, neg []int, seed uint64) (*hull, error) {
 	h, err := solveHull(p, pos, neg, nil)
 	for attempt := uint64(1); err != nil && attempt <= 2; attempt++ {
 		rng := rand.New(rand.NewPCG(seed, attempt))
@@ -162,7 +165,7 @@ var errDegenerate = errors.New("separate: the hull program's optimal vertex is d
 // solved again with a tiny seeded perturbation of e, which makes the
 // vertex non-degenerate; the dual of a basis does not depend on e, and
 // neither does its optimality.
-func (h *hull) direction(p fit.Patterns, seed uint64) ([]float64, error) {
+func (h *hull) direction(p fit.Store, seed uint64) ([]float64, error) {
 	m := h.width + 2
 	basis := nonZero(h.x)
 	if len(basis) != m {

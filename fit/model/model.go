@@ -58,18 +58,9 @@ func (c *Classifier) Predict(file string, cols []*tabular.Column, rows []int) (*
 		if len(cols) > 0 {
 			n = cols[0].Len()
 		}
-		rows = make([]int, n)
-		for i := range rows {
-			rows[i] = i
-		}
+		rows = allRows(n)
 	}
-	k := len(c.Labels)
-	p := &Predictions{
-		Labels:    c.Labels,
-		Rows:      rows,
-		Predicted: make([]int, len(rows)),
-		Scores:    make([]float64, len(rows)*k),
-	}
+	p := c.newPredictions(rows)
 	width := c.Plan.Width()
 	// A plan of many units (up to encode.MaxWidth) needs one block of
 	// patterns, not one per row.
@@ -81,18 +72,59 @@ func (c *Classifier) Predict(file string, cols []*tabular.Column, rows []int) (*
 		values, blockStats = c.Plan.EncodeTo(values, cols, rows[lo:hi])
 		stats.Merge(blockStats)
 		for n := lo; n < hi; n++ {
-			x := values[(n-lo)*width : (n-lo+1)*width]
-			scores := c.Network.ScoresTo(p.ScoresOf(n), x)
-			for _, s := range scores {
-				if !finite(s) {
-					return nil, stats, &tabular.DataError{File: file, Row: rows[n] + 1,
-						Err: errors.New("the model's scores for the row are not finite; its inputs are far outside the range of the training data")}
-				}
+			if err := c.score(p, n, values[(n-lo)*width:(n-lo+1)*width], file); err != nil {
+				return nil, stats, err
 			}
-			p.Predicted[n] = fit.Decide(scores)
 		}
 	}
 	return p, stats, nil
+}
+
+// PredictPatterns scores rows (0-based; nil means all) of patterns already
+// encoded with the classifier's plan, as cross-validation holds them.
+func (c *Classifier) PredictPatterns(file string, patterns fit.Store, rows []int) (*Predictions, error) {
+	if rows == nil {
+		rows = allRows(patterns.Len())
+	}
+	p := c.newPredictions(rows)
+	x := make([]float64, patterns.Inputs())
+	for n, r := range rows {
+		if err := c.score(p, n, patterns.RowTo(x, r), file); err != nil {
+			return nil, err
+		}
+	}
+	return p, nil
+}
+
+func (c *Classifier) newPredictions(rows []int) *Predictions {
+	return &Predictions{
+		Labels:    c.Labels,
+		Rows:      rows,
+		Predicted: make([]int, len(rows)),
+		Scores:    make([]float64, len(rows)*len(c.Labels)),
+	}
+}
+
+// score scores pattern x as the n-th row of p: every scoring of a row
+// passes here.
+func (c *Classifier) score(p *Predictions, n int, x []float64, file string) error {
+	scores := c.Network.ScoresTo(p.ScoresOf(n), x)
+	for _, s := range scores {
+		if !finite(s) {
+			return &tabular.DataError{File: file, Row: p.Rows[n] + 1,
+				Err: errors.New("the model's scores for the row are not finite; its inputs are far outside the range of the training data")}
+		}
+	}
+	p.Predicted[n] = fit.Decide(scores)
+	return nil
+}
+
+func allRows(n int) []int {
+	rows := make([]int, n)
+	for i := range rows {
+		rows[i] = i
+	}
+	return rows
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

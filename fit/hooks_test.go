@@ -1,0 +1,327 @@
+package fit
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"reflect"
+	"slices"
+	"testing"
+)
+
+// replayRecorder rebuilds the weights from the recorded updates alone, with
+// plain loops, and checks every update against that replica as it comes:
+// the outputs from the replica's weights, the targets from the class and
+// the steps from the rule's formula (Widrow & Hoff 1960: Δw = rate·(t −
+// y)·x; Hebb 1949 with bipolar targets: Δw = rate·t·x).
+type replayRecorder struct {
+	t        *testing.T
+	p        Patterns
+	rule     Rule
+	unit     Unit
+	rate     float64 // per-update rate: the batch rate is rate/N
+	on, off  float64
+	weights  [][]float64 // replica, one row per unit, bias last
+	pending  [][]float64 // deferred changes of the current epoch
+	updates  int
+	epochs   []EpochStats
+	visited  []int // rows of the current epoch
+	failures int
+}
+
+func newReplayRecorder(t *testing.T, p Patterns, rule Rule, unit Unit, rate float64, units int) *replayRecorder {
+	r := &replayRecorder{t: t, p: p, rule: rule, unit: unit, rate: rate, on: rule.Target(true), off: rule.Target(false)}
+	for range units {
+		r.weights = append(r.weights, make([]float64, p.Width+1))
+		r.pending = append(r.pending, make([]float64, p.Width+1))
+	}
+	return r
+}
+
+func (r *replayRecorder) fail(format string, args ...any) {
+	if r.failures++; r.failures <= 5 {
+		r.t.Errorf(format, args...)
+	}
+}
+
+func (r *replayRecorder) RecordUpdate(u *Update) {
+	r.updates++
+	r.visited = append(r.visited, u.Row)
+	x := r.p.Row(u.Row)
+	for j, w := range r.weights {
+		z := w[len(x)]
+		for i, v := range x {
+			z += w[i] * v
+		}
+		y := z
+		if r.unit == Logistic {
+			y = 1 / (1 + math.Exp(-z))
+		}
+		target := r.off
+		if (len(r.weights) == 1 && u.Class == 1) || (len(r.weights) > 1 && u.Class == j) {
+			target = r.on
+		}
+		step := r.rate * r.rule.Signal(target, y)
+		// 1e-12: the replica sums in another order than the trainer's
+		// kernels; the weights here stay below 100 in magnitude.
+		if u.Targets[j] != target || math.Abs(u.Outputs[j]-y) > 1e-12 || math.Abs(u.Steps[j]-step) > 1e-12 {
+			r.fail("epoch %d row %d unit %d: target %v output %v step %v; replica %v %v %v",
+				u.Epoch, u.Row, j, u.Targets[j], u.Outputs[j], u.Steps[j], target, y, step)
+		}
+		change := w
+		if u.Deferred {
+			change = r.pending[j]
+		}
+		for i, v := range x {
+			change[i] += u.Steps[j] * v
+		}
+		change[len(x)] += u.Steps[j]
+	}
+}
+
+func (r *replayRecorder) RecordEpoch(stats EpochStats) error {
+	r.epochs = append(r.epochs, stats)
+	if len(r.visited) != r.p.Len() || !slices.Equal(slices.Sorted(slices.Values(r.visited)), identity(r.p.Len())) {
+		r.fail("epoch %d recorded %d updates, not one per pattern", stats.Epoch, len(r.visited))
+	}
+	r.visited = r.visited[:0]
+	for j, change := range r.pending {
+		for i, v := range change {
+			r.weights[j][i] += v
+		}
+		clear(change)
+	}
+	return nil
+}
+
+func identity(n int) []int {
+	out := make([]int, n)
+	for i := range out {
+		out[i] = i
+	}
+	return out
+}
+
+// The update recorder sees exactly the changes training makes: replaying
+// them gives the trained weights.
+func TestRecorderSeesEveryUpdate(t *testing.T) {
+	rows, species := readIris(t)
+	p := standardized(rows)
+	and, andLabels := readTruthTable(t, "and.csv")
+	for _, tc := range []struct {
+		name       string
+		patterns   Patterns
+		classes    []int
+		numClasses int
+		opts       Options
+	}{
+		{"online logistic", p, species, 3, Options{Seed: 2, Epochs: 6, KeepGoing: true}},
+		{"online linear", p, species, 3, Options{Seed: 2, Unit: Linear, Epochs: 6, KeepGoing: true}},
+		{"online one unit", and, andLabels, 2, Options{Seed: 1, Epochs: 30, KeepGoing: true}},
+		{"batch linear", p, species, 3, Options{Batch: true, Unit: Linear, Epochs: 6, KeepGoing: true}},
+		{"hebbian one pass", p, species, 3, Options{Rule: Hebbian{}}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			plain, err := Train(tc.patterns, tc.classes, tc.numClasses, tc.opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			rule := tc.opts.Rule
+			if rule == nil {
+				rule = Delta{}
+			}
+			rate := plain.Rate
+			if tc.opts.Batch {
+				rate /= float64(tc.patterns.Len())
+			}
+			rec := newReplayRecorder(t, tc.patterns, rule, plain.Network.Unit, rate, len(plain.Network.Biases))
+			opts := tc.opts
+			opts.Recorder = rec
+			res, err := Train(tc.patterns, tc.classes, tc.numClasses, opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !reflect.DeepEqual(res, plain) {
+				t.Error("recording changed the result")
+			}
+			if want := len(res.History) * tc.patterns.Len(); rec.updates != want {
+				t.Errorf("%d updates recorded, want %d", rec.updates, want)
+			}
+			if !slices.Equal(rec.epochs, res.History) {
+				t.Errorf("recorded epochs %v, history %v", rec.epochs, res.History)
+			}
+			for j, w := range rec.weights {
+				got := append(slices.Clone(res.Network.Weights[j]), res.Network.Biases[j])
+				for i := range w {
+					// 1e-9: round-off of the replica's other summation
+					// order, accumulated over the epochs.
+					if math.Abs(w[i]-got[i]) > 1e-9 {
+						t.Fatalf("unit %d: replayed weights %v, trained %v", j, w, got)
+					}
+				}
+			}
+		})
+	}
+}
+
+// epochLimit is a custom stop rule: it ends training after a set epoch.
+type epochLimit int
+
+func (l epochLimit) Converged(history []EpochStats) string {
+	if len(history) >= int(l) {
+		return fmt.Sprintf("limit %d", int(l))
+	}
+	return ""
+}
+
+// afterEpoch ends training after a set epoch with its own reason.
+type afterEpoch struct {
+	epoch  int
+	reason string
+}
+
+func (a afterEpoch) Converged(history []EpochStats) string {
+	if len(history) >= a.epoch {
+		return a.reason
+	}
+	return ""
+}
+
+func TestStopRules(t *testing.T) {
+	rows, species := readIris(t)
+	p := standardized(rows)
+	and, andLabels := readTruthTable(t, "and.csv")
+	for _, tc := range []struct {
+		name       string
+		patterns   Patterns
+		classes    []int
+		numClasses int
+		opts       Options
+		same       Options // options that must give the identical result
+		stop       string
+		epochs     int // 0: do not check
+	}{
+		{"custom rule stops", p, species, 3, Options{Seed: 1, Stop: []Converger{epochLimit(3)}}, Options{Seed: 1, Epochs: 3, KeepGoing: true, Tolerance: 1e-300}, "limit 3", 3},
+		{"rules asked in order", p, species, 3, Options{Seed: 1, Stop: []Converger{afterEpoch{2, "first"}, afterEpoch{2, "second"}}}, Options{Seed: 1, Epochs: 2, KeepGoing: true, Tolerance: 1e-300}, "first", 2},
+		{"epochs still limit", p, species, 3, Options{Seed: 1, Epochs: 4, Stop: []Converger{epochLimit(10)}}, Options{Seed: 1, Epochs: 4, KeepGoing: true, Tolerance: 1e-300}, StopEpochs, 4},
+		{"defaults spelt out", and, andLabels, 2, Options{Seed: 1, Stop: []Converger{ZeroErrors{}, LossChange{DefaultTolerance}}}, Options{Seed: 1}, StopZeroErrors, 0},
+		{"keep going spelt out", p, species, 3, Options{Unit: Linear, Batch: true, Epochs: 5000, Stop: []Converger{LossChange{1e-6}}}, Options{Unit: Linear, Batch: true, Epochs: 5000, KeepGoing: true, Tolerance: 1e-6}, StopConverged, 0},
+		{"one pass before any rule", p, species, 3, Options{Rule: Hebbian{}, Stop: []Converger{epochLimit(1)}}, Options{Rule: Hebbian{}}, StopOnePass, 1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			res, err := Train(tc.patterns, tc.classes, tc.numClasses, tc.opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.Stop != tc.stop || (tc.epochs > 0 && len(res.History) != tc.epochs) {
+				t.Errorf("stop %q after %d epochs, want %q after %d", res.Stop, len(res.History), tc.stop, tc.epochs)
+			}
+			same, err := Train(tc.patterns, tc.classes, tc.numClasses, tc.same)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !reflect.DeepEqual(res.Network, same.Network) || !slices.Equal(res.History, same.History) {
+				t.Error("weights or history differ from the equivalent options")
+			}
+		})
+	}
+	t.Run("nil rule is an error", func(t *testing.T) {
+		if _, err := Train(p, species, 3, Options{Stop: []Converger{nil}}); err == nil {
+			t.Error("Train took a nil stop rule")
+		}
+	})
+}
+
+// failingRecorder ends training at a set epoch.
+type failingRecorder struct{ at int }
+
+var errEnough = errors.New("enough")
+
+func (r failingRecorder) RecordEpoch(stats EpochStats) error {
+	if stats.Epoch == r.at {
+		return errEnough
+	}
+	return nil
+}
+
+func TestRecorderErrorStops(t *testing.T) {
+	rows, species := readIris(t)
+	_, err := Train(standardized(rows), species, 3, Options{Recorder: failingRecorder{at: 2}})
+	if !errors.Is(err, errEnough) || err.Error() != "fit: recorder at epoch 2: enough" {
+		t.Errorf("error %v, want the recorder's, at epoch 2", err)
+	}
+}
+
+// The worker count changes who measures, never what: results are
+// identical to the bit (the package's determinism invariant).
+func TestWorkersSameBytes(t *testing.T) {
+	p, classes := noisyPatterns(3*measureChunk+17, 6, 3)
+	for _, batch := range []bool{false, true} {
+		t.Run(modeName(batch), func(t *testing.T) {
+			var first *Result
+			for _, workers := range []int{1, 2, 4, 7} {
+				res, err := Train(p, classes, 3, Options{Seed: 5, Epochs: 3, Batch: batch, Workers: workers})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if first == nil {
+					first = res
+				} else if !reflect.DeepEqual(first, res) {
+					t.Errorf("%d workers gave a different result from 1", workers)
+				}
+			}
+		})
+	}
+	if _, err := Train(p, classes, 3, Options{Workers: -1}); err == nil {
+		t.Error("Train took -1 workers")
+	}
+}
+
+// cancelAt cancels its context at a set update and counts the updates
+// after it.
+type cancelAt struct {
+	at, seen int
+	cancel   context.CancelFunc
+}
+
+func (c *cancelAt) RecordEpoch(EpochStats) error { return nil }
+func (c *cancelAt) RecordUpdate(*Update) {
+	if c.seen++; c.seen == c.at {
+		c.cancel()
+	}
+}
+
+// A cancelled context stops training within ctxRows patterns, with an
+// error wrapping context.Canceled.
+func TestTrainCancelled(t *testing.T) {
+	p, classes := noisyPatterns(3*ctxRows, 4, 2)
+	for _, tc := range []struct {
+		name string
+		opts Options
+		at   int // cancel at this update; 0: before Train
+	}{
+		{"before training", Options{}, 0},
+		{"online, mid epoch", Options{Seed: 1, Epochs: 5}, ctxRows + 10},
+		{"batch, mid epoch", Options{Batch: true, Epochs: 5}, 2*ctxRows + 1},
+		{"between epochs", Options{Seed: 1, Epochs: 5}, 3 * ctxRows},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			ctx, cancel := context.WithCancel(context.Background())
+			defer cancel()
+			rec := &cancelAt{at: tc.at, cancel: cancel}
+			if tc.at == 0 {
+				cancel()
+			}
+			opts := tc.opts
+			opts.Recorder = rec
+			res, err := TrainContext(ctx, p, classes, 2, opts)
+			if res != nil || !errors.Is(err, context.Canceled) {
+				t.Fatalf("Train = %v, %v; want no result and an error wrapping context.Canceled", res, err)
+			}
+			if after := rec.seen - tc.at; tc.at > 0 && after > ctxRows {
+				t.Errorf("%d updates after the cancellation, want at most %d", after, ctxRows)
+			}
+		})
+	}
+}
