@@ -34,8 +34,8 @@ func resultDigest(res *Result) string {
 	return hex.EncodeToString(h.Sum(nil))
 }
 
-// noisyPatterns are uniform patterns in [0, 1) over several measurement
-// chunks with uniform labels: random data, for bit-for-bit pins only.
+// noisyPatterns are uniform patterns in [0, 1) with uniform labels, from a
+// fixed seed: random data, for bit-for-bit pins and timing only.
 func noisyPatterns(rows, width, classes int) (Patterns, []int) {
 	rng := rand.New(rand.NewPCG(11, 12))
 	p := Patterns{Width: width, Values: make([]float64, rows*width)}

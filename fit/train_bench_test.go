@@ -3,7 +3,6 @@ package fit
 import (
 	"context"
 	"fmt"
-	"math/rand/v2"
 	"testing"
 )
 
@@ -14,7 +13,7 @@ func BenchmarkEpoch(b *testing.B) {
 	for _, rows := range []int{150, 10000} {
 		for _, inputs := range []int{4, 64, 512} {
 			for _, classes := range []int{2, 10} {
-				patterns, labels := randomPatterns(rows, inputs, classes)
+				patterns, labels := noisyPatterns(rows, inputs, classes)
 				for _, batch := range []bool{false, true} {
 					name := fmt.Sprintf("rows=%d/inputs=%d/classes=%d/%s", rows, inputs, classes, modeName(batch))
 					b.Run(name, func(b *testing.B) {
@@ -40,7 +39,7 @@ func BenchmarkEpoch(b *testing.B) {
 // and power iteration.
 func BenchmarkAutoRate(b *testing.B) {
 	for _, inputs := range []int{64, 512} {
-		patterns, _ := randomPatterns(1000, inputs, 2)
+		patterns, _ := noisyPatterns(1000, inputs, 2)
 		for _, method := range []struct {
 			name string
 			run  func(context.Context, Store) (float64, float64, error)
@@ -55,19 +54,4 @@ func BenchmarkAutoRate(b *testing.B) {
 			})
 		}
 	}
-}
-
-// randomPatterns makes uniform patterns in [0, 1) with uniform labels;
-// timing only, never checked.
-func randomPatterns(rows, inputs, classes int) (Patterns, []int) {
-	rng := rand.New(rand.NewPCG(1, 2))
-	p := Patterns{Width: inputs, Values: make([]float64, rows*inputs)}
-	for i := range p.Values {
-		p.Values[i] = rng.Float64()
-	}
-	labels := make([]int, rows)
-	for i := range labels {
-		labels[i] = rng.IntN(classes)
-	}
-	return p, labels
 }
