@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 
@@ -137,6 +138,11 @@ func (threshold) fit(f *Feature, s *Summary, e Encoding) error {
 	cut := median(s.Values)
 	if e.Cut != nil {
 		cut = *e.Cut
+	} else if len(s.Values) > 0 && cut >= slices.Max(s.Values) && slices.Min(s.Values) < cut {
+		// The median is the maximum (most values are): a cut there would
+		// leave the unit off on every training row.
+		sorted := slices.Sorted(slices.Values(s.Values))
+		cut = belowMax(sorted)
 	}
 	f.Cuts = []float64{cut}
 	return nil

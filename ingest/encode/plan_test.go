@@ -60,6 +60,7 @@ func firstIrisRows(t testing.TB, n int) *tabular.Table {
 func TestQuantileCuts(t *testing.T) {
 	first10 := firstIrisRows(t, 10)
 	xor := fixture.ReadCSVText(t, "xor.csv", "x1,x2,y\n0,0,0\n0,1,1\n1,0,1\n1,1,0\n", ingest.ReadOptions{}) // XOR truth table, as testdata/xor.csv
+	mostlyOnes := fixture.ReadCSVText(t, "ones.csv", "x,c\n1,5\n0,5\n1,5\n1,5\n1,5\n1,5\n1,5\n1,5\n1,5\n1,5\n", ingest.ReadOptions{})
 	const tol = 1e-12                                                                                       // interpolating one-decimal values in float64 errs by ~1e-15
 	tests := []struct {
 		name     string
@@ -74,8 +75,14 @@ func TestQuantileCuts(t *testing.T) {
 		{"sepal length, 4 bins", first10.Column("sepal_length"), "thermometer:4", []float64{4.625, 4.9, 5.0}},
 		// petal width, rows 1–10, sorted: 0.1, seven times 0.2, 0.3, 0.4; all three quartiles are 0.2.
 		{"petal width, tied quartiles collapse", first10.Column("petal_width"), "thermometer:4", []float64{0.2}},
-		// x1 of XOR: 0 0 1 1. p=.25: .75 → 0; p=.5: 1.5 → .5; p=.75: 2.25 → 1 = max, dropped.
-		{"XOR x1, a cut at the maximum is dropped", xor.Column("x1"), "thermometer:4", []float64{0, 0.5}},
+		// x1 of XOR: 0 0 1 1. p=.25: .75 → 0; p=.5: 1.5 → .5, which turns on
+		// the same rows as 0 (one gap between 0 and 1), dropped; p=.75:
+		// 2.25 → 1 = max, dropped. A 0/1 column gets one unit.
+		{"XOR x1, one unit per gap", xor.Column("x1"), "thermometer:4", []float64{0}},
+		// 1 0 1 1 1 1 1 1 1 1: every quantile of 4 bins is 1 = max; the
+		// column still gets one unit, splitting the maximum from the rest.
+		{"mostly ones, never zero units", mostlyOnes.Column("x"), "thermometer:4", []float64{0}},
+		{"a constant column gets no unit", mostlyOnes.Column("c"), "thermometer:4", nil},
 		{"onehot bins use the same cuts", first10.Column("sepal_length"), "onehot:5", []float64{4.6, 4.82, 4.94, 5.02}},
 	}
 	for _, tt := range tests {

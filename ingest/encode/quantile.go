@@ -5,9 +5,13 @@ import (
 	"slices"
 )
 
-// quantileCuts returns the distinct cuts between K bins of equal count,
-// keeping only cuts that split the values (min ≤ cut < max), so that no unit
-// is constant on the training rows.
+// quantileCuts returns cuts between K bins of equal count. A cut is kept
+// only if it splits the training values (min ≤ cut < max) and turns on a
+// different set of them than the cut before it, so that no unit is
+// constant on the training rows and no two units are the same: a column of
+// few distinct values gets at most one unit per gap between consecutive
+// distinct values (a 0/1 column: one). A column of two or more distinct
+// values always gets at least one cut; a constant column gets none.
 func quantileCuts(values []float64, bins int) []float64 {
 	if len(values) == 0 {
 		return nil
@@ -15,15 +19,47 @@ func quantileCuts(values []float64, bins int) []float64 {
 	sorted := slices.Clone(values)
 	slices.Sort(sorted)
 	lo, hi := sorted[0], sorted[len(sorted)-1]
+	if lo == hi {
+		return nil
+	}
 	var cuts []float64
+	lastAtOrBelow := -1 // training values at or below the last cut kept
 	for k := 1; k < bins; k++ {
 		c := quantile(sorted, float64(k)/float64(bins))
-		if c < lo || c >= hi || (len(cuts) > 0 && c <= cuts[len(cuts)-1]) {
+		if c < lo || c >= hi {
+			continue
+		}
+		atOrBelow := countAtOrBelow(sorted, c)
+		if atOrBelow == lastAtOrBelow {
 			continue
 		}
 		cuts = append(cuts, c)
+		lastAtOrBelow = atOrBelow
+	}
+	if len(cuts) == 0 {
+		// Every quantile fell on the maximum: split it from the rest.
+		cuts = []float64{belowMax(sorted)}
 	}
 	return cuts
+}
+
+// countAtOrBelow returns how many of the sorted values are ≤ c.
+func countAtOrBelow(sorted []float64, c float64) int {
+	i, _ := slices.BinarySearchFunc(sorted, c, func(v, c float64) int {
+		if v <= c {
+			return -1
+		}
+		return 1
+	})
+	return i
+}
+
+// belowMax returns the largest of the sorted values under their maximum;
+// the values must not all be equal.
+func belowMax(sorted []float64) float64 {
+	hi := sorted[len(sorted)-1]
+	i, _ := slices.BinarySearch(sorted, hi)
+	return sorted[i-1]
 }
 
 // quantile of sorted values by linear interpolation between order
