@@ -2,7 +2,6 @@ package evaluate
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"runtime"
 	"sync"
@@ -123,12 +122,42 @@ func MajorityMethod(d *tabular.Dataset) Method {
 	}}
 }
 
-// CVResult is the out-of-fold outcome of one method.
+// CVResult is the out-of-fold outcome of one method, over one or more
+// repeats of a cross-validation.
 type CVResult struct {
-	Method       string
-	Confusion    *Confusion // out-of-fold predictions of every fold, pooled
+	Method string
+	// Confusion pools the out-of-fold predictions of every fold of every
+	// repeat: each row counts once per repeat.
+	Confusion *Confusion
+	// Pooled is the accuracy of Confusion: out-of-fold predictions that are
+	// right over all predictions. It is the headline figure.
+	Pooled float64
+	// FoldAccuracy is the accuracy of each fold, repeat after repeat.
 	FoldAccuracy []float64
 	Mean, SD     float64 // of FoldAccuracy (sample sd)
+	// RepeatAccuracy is the pooled accuracy of each repeat, and RepeatSD
+	// its sample sd (0 for one repeat).
+	RepeatAccuracy []float64
+	RepeatSD       float64
+}
+
+// combine pools the results of the repeats of one method's
+// cross-validation, in repeat order.
+func combine(repeats []*CVResult) (*CVResult, error) {
+	res := &CVResult{Method: repeats[0].Method, Confusion: NewConfusion(repeats[0].Confusion.Labels)}
+	for _, r := range repeats {
+		if err := res.Confusion.Merge(r.Confusion); err != nil {
+			return nil, err
+		}
+		res.FoldAccuracy = append(res.FoldAccuracy, r.FoldAccuracy...)
+		res.RepeatAccuracy = append(res.RepeatAccuracy, r.Pooled)
+	}
+	res.Pooled = res.Confusion.Accuracy()
+	res.Mean, res.SD = MeanSD(res.FoldAccuracy)
+	if len(repeats) > 1 {
+		_, res.RepeatSD = MeanSD(res.RepeatAccuracy)
+	}
+	return res, nil
 }
 
 // CrossValidate is CrossValidateContext with a context that is never
@@ -210,15 +239,23 @@ hand:
 		res.FoldAccuracy = append(res.FoldAccuracy, o.confusion.Accuracy())
 	}
 	res.Mean, res.SD = MeanSD(res.FoldAccuracy)
+	res.Pooled = res.Confusion.Accuracy()
+	res.RepeatAccuracy = []float64{res.Pooled}
 	return res, nil
 }
 
-// Folds makes stratified folds of d; a *FoldError names the class label.
-func Folds(d *tabular.Dataset, k int, seed uint64) ([][]int, error) {
-	folds, err := StratifiedFolds(d.Classes, len(d.Labels), k, seed)
-	var fe *FoldError
-	if errors.As(err, &fe) {
-		fe.Name = d.Labels[fe.Label]
+// Folds makes the stratified folds of d for one repeat of a
+// cross-validation (see StratifiedFoldsRepeat).
+func Folds(d *tabular.Dataset, k int, seed, repeat uint64) ([][]int, error) {
+	return StratifiedFoldsRepeat(d.Classes, len(d.Labels), k, seed, repeat)
+}
+
+// SmallClassesOf returns the classes of d with fewer rows than k folds,
+// named by their labels.
+func SmallClassesOf(d *tabular.Dataset, k int) []SmallClass {
+	small := SmallClasses(d.Classes, len(d.Labels), k)
+	for i := range small {
+		small[i].Name = d.Labels[small[i].Label]
 	}
-	return folds, err
+	return small
 }

@@ -49,7 +49,7 @@ func withHeldOutScrambled(d *tabular.Dataset, fold []int) *tabular.Dataset {
 // invariant of cross-validation; common practice).
 func TestTrainingFoldDoesNotSeeHeldOutRows(t *testing.T) {
 	d := irisDataset(t)
-	folds, err := Folds(d, 5, 7)
+	folds, err := Folds(d, 5, 7, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -89,7 +89,7 @@ func TestTrainingFoldDoesNotSeeHeldOutRows(t *testing.T) {
 
 func TestCrossValidateIris(t *testing.T) {
 	d := irisDataset(t)
-	folds, err := Folds(d, 10, 1)
+	folds, err := Folds(d, 10, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -129,7 +129,7 @@ func TestCrossValidateIris(t *testing.T) {
 // cores nor on the worker count.
 func TestCrossValidateSameResultOnAnyCoreCount(t *testing.T) {
 	d := irisDataset(t)
-	folds, err := Folds(d, 10, 5)
+	folds, err := Folds(d, 10, 5, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -170,7 +170,7 @@ func TestCrossValidateDividesWorkers(t *testing.T) {
 		{4, 0, max(1, runtime.GOMAXPROCS(0)/min(4, runtime.GOMAXPROCS(0)))},
 	} {
 		t.Run(fmt.Sprintf("%d folds, %d workers", tc.folds, tc.workers), func(t *testing.T) {
-			folds, err := Folds(d, tc.folds, 1)
+			folds, err := Folds(d, tc.folds, 1, 0)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -212,7 +212,7 @@ func TestCrossValidateDividesWorkers(t *testing.T) {
 // says why.
 func TestCrossValidateCancelled(t *testing.T) {
 	d := irisDataset(t)
-	folds, err := Folds(d, 10, 1)
+	folds, err := Folds(d, 10, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -239,7 +239,7 @@ func TestCrossValidateCancelled(t *testing.T) {
 // the same rows as the copy.
 func TestLearnerTrainsOnAView(t *testing.T) {
 	d := irisDataset(t)
-	folds, err := Folds(d, 5, 3)
+	folds, err := Folds(d, 5, 3, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -272,7 +272,7 @@ func TestLearnerTrainsOnAView(t *testing.T) {
 // fold, not a panic inside a worker goroutine.
 func TestCrossValidateBadMethod(t *testing.T) {
 	d := irisDataset(t)
-	folds, err := Folds(d, 5, 1)
+	folds, err := Folds(d, 5, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -297,12 +297,16 @@ func TestCrossValidateBadMethod(t *testing.T) {
 	}
 }
 
-func TestFoldsNamesTheShortClass(t *testing.T) {
+func TestSmallClassesNamesTheClass(t *testing.T) {
 	d := irisDataset(t)
-	_, err := Folds(d, 51, 1)
-	// UCI iris.names: 50 instances per class, so 51 folds cannot be stratified.
-	want := `evaluate: class "setosa" has 50 rows; 51 folds need at least 51 in every class (use fewer folds)`
-	if err == nil || err.Error() != want {
-		t.Fatalf("error %v, want %s", err, want)
+	// UCI iris.names: 50 instances per class, so 51 folds leave every
+	// class out of one of them.
+	if _, err := Folds(d, 51, 1, 0); err != nil {
+		t.Fatal(err)
+	}
+	small := SmallClassesOf(d, 51)
+	want := `class "setosa" has 50 rows, fewer than the 51 folds: it is tested in 50 folds only, and some training folds lack it`
+	if len(small) != 3 || small[0].String() != want {
+		t.Fatalf("small classes %v, want three, the first %s", small, want)
 	}
 }

@@ -116,7 +116,8 @@ func checkFolds(t *testing.T, folds [][]int, classes []int, numClasses, k int) {
 // TestStratifiedFoldsProperties checks, over random class vectors of many
 // sizes, class counts, fold counts and seeds: partition, per-class counts
 // within one, fold sizes within one (always, not only when classes allow
-// it), determinism and the FoldError for a class with too few rows.
+// it), determinism, and SmallClasses naming a class with fewer rows than folds,
+// which is split all the same.
 func TestStratifiedFoldsProperties(t *testing.T) {
 	gen := rand.New(rand.NewPCG(1, 2))
 	var split, refused int
@@ -132,21 +133,18 @@ func TestStratifiedFoldsProperties(t *testing.T) {
 		name := fmt.Sprintf("trial %d n=%d classes=%d k=%d", trial, n, numClasses, k)
 		t.Run(name, func(t *testing.T) {
 			folds, err := StratifiedFolds(classes, numClasses, k, seed)
-			if short := firstShortClass(classes, numClasses, k); short >= 0 {
-				var fe *FoldError
-				if !errors.As(err, &fe) {
-					t.Fatalf("error %v, want *FoldError for class %d", err, short)
-				}
-				want := FoldError{Label: short, Count: countOf(classes, short), Folds: k}
-				if *fe != want {
-					t.Errorf("FoldError %+v, want %+v", *fe, want)
-				}
-				refused++
-				return
-			}
-			split++
 			if err != nil {
 				t.Fatal(err)
+			}
+			if short := firstShortClass(classes, numClasses, k); short >= 0 {
+				small := SmallClasses(classes, numClasses, k)
+				want := SmallClass{Label: short, Count: countOf(classes, short), Folds: k}
+				if len(small) == 0 || small[0] != want {
+					t.Errorf("SmallClasses = %+v, want first %+v", small, want)
+				}
+				refused++
+			} else {
+				split++
 			}
 			checkFolds(t, folds, classes, numClasses, k)
 			again, err := StratifiedFolds(classes, numClasses, k, seed)
@@ -155,11 +153,11 @@ func TestStratifiedFoldsProperties(t *testing.T) {
 			}
 		})
 	}
-	// The generator must exercise both outcomes, or the test checks little.
+	// The generator must exercise both cases, or the test checks little.
 	if split < 100 || refused < 50 {
-		t.Errorf("%d trials split and %d refused; want at least 100 and 50", split, refused)
+		t.Errorf("%d trials without a small class and %d with; want at least 100 and 50", split, refused)
 	}
-	t.Logf("%d trials split, %d refused with a FoldError", split, refused)
+	t.Logf("%d trials without a small class, %d with one", split, refused)
 }
 
 func countOf(classes []int, class int) int {
@@ -246,38 +244,38 @@ func TestStratifiedFoldsErrors(t *testing.T) {
 		name    string
 		classes []int
 		k       int
-		want    FoldError
+		want    SmallClass
 	}{
 		// XOR truth table outputs 0 1 1 0 (common practice): 2 rows per class.
-		{"XOR outputs, 3 folds", []int{0, 1, 1, 0}, 3, FoldError{Label: 0, Count: 2, Folds: 3}},
+		{"XOR outputs, 3 folds", []int{0, 1, 1, 0}, 3, SmallClass{Label: 0, Count: 2, Folds: 3}},
 		// AND truth table outputs 0 0 0 1 (common practice): one row of class 1.
-		{"AND outputs, 2 folds", []int{0, 0, 0, 1}, 2, FoldError{Label: 1, Count: 1, Folds: 2}},
+		{"AND outputs, 2 folds", []int{0, 0, 0, 1}, 2, SmallClass{Label: 1, Count: 1, Folds: 2}},
 		// UCI iris.names: rows 1–50 setosa, 51–100 versicolor; first 52 rows.
-		{"iris first 52 rows, 3 folds", iris[:52], 3, FoldError{Label: 1, Count: 2, Folds: 3}},
+		{"iris first 52 rows, 3 folds", iris[:52], 3, SmallClass{Label: 1, Count: 2, Folds: 3}},
 	}
 	for _, tc := range short {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := StratifiedFolds(tc.classes, 3, tc.k, 1)
-			var fe *FoldError
-			if !errors.As(err, &fe) {
-				t.Fatalf("error %v, want *FoldError", err)
+			folds, err := StratifiedFolds(tc.classes, 3, tc.k, 1)
+			if err != nil {
+				t.Fatal(err)
 			}
-			if *fe != tc.want {
-				t.Errorf("FoldError %+v, want %+v", *fe, tc.want)
+			checkFolds(t, folds, tc.classes, 3, tc.k)
+			if small := SmallClasses(tc.classes, 3, tc.k); len(small) == 0 || small[0] != tc.want {
+				t.Errorf("SmallClasses = %+v, want first %+v", small, tc.want)
 			}
 		})
 	}
 
 	t.Run("messages", func(t *testing.T) {
-		fe := &FoldError{Label: 1, Count: 2, Folds: 3}
-		want := "evaluate: class 1 has 2 rows; 3 folds need at least 3 in every class (use fewer folds)"
-		if got := fe.Error(); got != want {
-			t.Errorf("Error() = %q, want %q", got, want)
+		c := SmallClass{Label: 1, Count: 2, Folds: 3}
+		want := "class 1 has 2 rows, fewer than the 3 folds: it is tested in 2 folds only, and some training folds lack it"
+		if got := c.String(); got != want {
+			t.Errorf("String() = %q, want %q", got, want)
 		}
-		fe.Name = "versicolor"
-		want = `evaluate: class "versicolor" has 2 rows; 3 folds need at least 3 in every class (use fewer folds)`
-		if got := fe.Error(); got != want {
-			t.Errorf("with its name, Error() = %q, want %q", got, want)
+		c.Name, c.Count = "versicolor", 1
+		want = `class "versicolor" has 1 row, fewer than the 3 folds: it is tested in 1 fold only, and some training folds lack it`
+		if got := c.String(); got != want {
+			t.Errorf("with its name, String() = %q, want %q", got, want)
 		}
 	})
 

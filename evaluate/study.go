@@ -18,29 +18,48 @@ type Study struct {
 	Main     *CVResult // the learner itself; nil without folds
 	Majority *CVResult // the majority class of each training fold
 	Hebbian  *CVResult // HebbianBaseline of the learner
+	// SmallClasses are the classes with fewer rows than folds, which
+	// cross-validation tests in fewer folds.
+	SmallClasses []SmallClass
 }
 
-// RunStudy fits l on every row of d and, when folds > 0, cross-validates
-// it with stratified folds from seed beside the majority-class and Hebbian
-// baselines. l.Fit.Workers (0: runtime.GOMAXPROCS(0), read once here)
-// bounds the goroutines of each step. Work stops soon after ctx is done.
-// Data errors name the dataset's file.
-func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, folds int, seed uint64) (*Study, error) {
+// StudyOptions say how a study cross-validates.
+type StudyOptions struct {
+	Folds   int    // stratified folds; 0 means no cross-validation
+	Repeats int    // repeats of the cross-validation, each with its own folds; 0 means 1
+	Seed    uint64 // seeds the folds of every repeat (see StratifiedFoldsRepeat)
+}
+
+// RunStudy fits l on every row of d and, when opts.Folds > 0,
+// cross-validates it with stratified folds beside the majority-class and
+// Hebbian baselines on the same folds. The folds are made, and checked,
+// before anything is fitted. l.Fit.Workers (0: runtime.GOMAXPROCS(0), read
+// once here) bounds the goroutines of each step. Work stops soon after ctx
+// is done. Data errors name the dataset's file.
+func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, opts StudyOptions) (*Study, error) {
 	if l.Fit.Workers == 0 {
 		l.Fit.Workers = runtime.GOMAXPROCS(0)
+	}
+	repeats := max(1, opts.Repeats)
+	var splits [][][]int
+	if opts.Folds > 0 {
+		for r := range repeats {
+			split, err := Folds(d, opts.Folds, opts.Seed, uint64(r))
+			if err != nil {
+				return nil, fmt.Errorf("%s: %w", tabular.DisplayName(d.Table.Name), err)
+			}
+			splits = append(splits, split)
+		}
 	}
 	fitted, _, err := l.train(ctx, d, nil, l.Fit.Workers)
 	if err != nil {
 		return nil, inFile(err, d.Table.Name)
 	}
 	s := &Study{Fitted: fitted}
-	if folds == 0 {
+	if opts.Folds == 0 {
 		return s, nil
 	}
-	split, err := Folds(d, folds, seed)
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", tabular.DisplayName(d.Table.Name), err)
-	}
+	s.SmallClasses = SmallClassesOf(d, opts.Folds)
 	for _, run := range []struct {
 		dst *(*CVResult)
 		m   Method
@@ -49,8 +68,14 @@ func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, folds int, see
 		{&s.Majority, MajorityMethod(d)},
 		{&s.Hebbian, LearnerMethod("hebbian", HebbianBaseline(l), d)},
 	} {
-		if *run.dst, err = CrossValidateContext(ctx, d, split, run.m, l.Fit.Workers); err != nil {
-			return nil, inFile(err, d.Table.Name)
+		results := make([]*CVResult, len(splits))
+		for r, split := range splits {
+			if results[r], err = CrossValidateContext(ctx, d, split, run.m, l.Fit.Workers); err != nil {
+				return nil, inFile(err, d.Table.Name)
+			}
+		}
+		if *run.dst, err = combine(results); err != nil {
+			return nil, err
 		}
 	}
 	return s, nil

@@ -138,7 +138,7 @@ func TestPredictionsRoundTrip(t *testing.T) {
 // with go test ./export -update after an intended change).
 func TestFitReportGolden(t *testing.T) {
 	m, d := irisModel(t)
-	folds, err := evaluate.Folds(d, 5, 1)
+	folds, err := evaluate.Folds(d, 5, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}

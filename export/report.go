@@ -98,11 +98,17 @@ func NewDataSummary(d *tabular.Dataset, plan *encode.Plan, sha string) DataSumma
 	}
 }
 
-// Spread is a mean and sample standard deviation over folds.
+// Spread is the pooled out-of-fold accuracy, the headline figure, beside
+// the mean and sample standard deviation of the fold accuracies.
 type Spread struct {
-	Mean  float64   `json:"mean"`
-	SD    float64   `json:"sd"`
-	Folds []float64 `json:"folds"`
+	Pooled float64   `json:"pooled"` // right out-of-fold predictions over all of them
+	Mean   float64   `json:"mean"`   // of the fold accuracies
+	SD     float64   `json:"sd"`     // of the fold accuracies
+	Folds  []float64 `json:"folds"`
+	// Repeats is the pooled accuracy of each repeat and RepeatSD its sample
+	// sd, with more than one repeat.
+	Repeats  []float64 `json:"repeats,omitempty"`
+	RepeatSD float64   `json:"repeat_sd,omitempty"`
 }
 
 // TableMetrics are the metrics read off a confusion table besides its
@@ -129,8 +135,9 @@ func confusionDetail(c *evaluate.Confusion) ConfusionDetail {
 
 // MethodSummary is the cross-validated outcome of a baseline.
 type MethodSummary struct {
-	Accuracy float64 `json:"accuracy"`
-	SD       float64 `json:"sd"`
+	Pooled   float64 `json:"pooled"`   // pooled out-of-fold accuracy
+	Accuracy float64 `json:"accuracy"` // mean of the fold accuracies
+	SD       float64 `json:"sd"`       // their sample sd
 	TableMetrics
 }
 
@@ -145,6 +152,7 @@ type Baselines struct {
 type CVReport struct {
 	Method   string `json:"method"`
 	Folds    int    `json:"folds"`
+	Repeats  int    `json:"repeats"`
 	Seed     uint64 `json:"seed"`
 	Accuracy Spread `json:"accuracy"`
 	TableMetrics
@@ -157,17 +165,26 @@ type CVReport struct {
 func NewCVReport(seed uint64, main, majority, hebbian *evaluate.CVResult) *CVReport {
 	return &CVReport{
 		Method:          main.Method,
-		Folds:           len(main.FoldAccuracy),
+		Folds:           len(main.FoldAccuracy) / len(main.RepeatAccuracy),
+		Repeats:         len(main.RepeatAccuracy),
 		Seed:            seed,
-		Accuracy:        Spread{Mean: main.Mean, SD: main.SD, Folds: main.FoldAccuracy},
+		Accuracy:        spread(main),
 		TableMetrics:    tableMetrics(main.Confusion),
 		ConfusionDetail: confusionDetail(main.Confusion),
 		Baselines:       Baselines{Majority: summarise(majority), Hebbian: summarise(hebbian)},
 	}
 }
 
+func spread(r *evaluate.CVResult) Spread {
+	s := Spread{Pooled: r.Pooled, Mean: r.Mean, SD: r.SD, Folds: r.FoldAccuracy}
+	if len(r.RepeatAccuracy) > 1 {
+		s.Repeats, s.RepeatSD = r.RepeatAccuracy, r.RepeatSD
+	}
+	return s
+}
+
 func summarise(r *evaluate.CVResult) MethodSummary {
-	return MethodSummary{Accuracy: r.Mean, SD: r.SD, TableMetrics: tableMetrics(r.Confusion)}
+	return MethodSummary{Pooled: r.Pooled, Accuracy: r.Mean, SD: r.SD, TableMetrics: tableMetrics(r.Confusion)}
 }
 
 // FitReport is what `deltafit fit` reports.
@@ -344,22 +361,34 @@ func (p *printer) data(d DataSummary) {
 }
 
 func (p *printer) cv(r *CVReport) {
-	p.subheading(fmt.Sprintf("cross-validation: %d stratified folds, seed %d; encoding fitted on each training fold", r.Folds, r.Seed))
+	title := fmt.Sprintf("cross-validation: %d stratified folds, seed %d; encoding fitted on each training fold", r.Folds, r.Seed)
+	if r.Repeats > 1 {
+		title = fmt.Sprintf("cross-validation: %d stratified folds repeated %d times, seed %d; encoding fitted on each training fold", r.Folds, r.Repeats, r.Seed)
+	}
+	p.subheading(title)
 	method := r.Method
 	if method == "hebbian" { // the fitted rule is also the baseline's: tell the rows apart
 		method = "hebbian (fitted)"
 	}
-	p.table([]string{"method", "accuracy", "sd", "balanced accuracy", "macro F1", "kappa"}, [][]string{
-		{method, num(r.Accuracy.Mean), num(r.Accuracy.SD), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa)},
+	p.table([]string{"method", "accuracy", "fold mean", "fold sd", "balanced accuracy", "macro F1", "kappa"}, [][]string{
+		methodRow(method, MethodSummary{Pooled: r.Accuracy.Pooled, Accuracy: r.Accuracy.Mean, SD: r.Accuracy.SD, TableMetrics: r.TableMetrics}),
 		methodRow("hebbian", r.Baselines.Hebbian),
 		methodRow("majority", r.Baselines.Majority),
 	}, nil)
-	p.confusion("confusion table, "+r.Method+" rule, out-of-fold (rows: true class, columns: predicted)", r.Confusion)
+	p.line("accuracy is pooled: right out-of-fold predictions over all rows; fold mean and sd are over the %d folds", r.Folds*r.Repeats)
+	if r.Repeats > 1 {
+		p.line("over the %d repeats the pooled accuracy of %s has sd %s", r.Repeats, r.Method, num(r.Accuracy.RepeatSD))
+	}
+	confusion := "confusion table, " + r.Method + " rule, out-of-fold (rows: true class, columns: predicted)"
+	if r.Repeats > 1 {
+		confusion = "confusion table, " + r.Method + " rule, out-of-fold, every repeat (rows: true class, columns: predicted)"
+	}
+	p.confusion(confusion, r.Confusion)
 	p.classes(r.Classes)
 }
 
 func methodRow(name string, m MethodSummary) []string {
-	return []string{name, num(m.Accuracy), num(m.SD), num(m.BalancedAccuracy), num(m.MacroF1), num(m.Kappa)}
+	return []string{name, num(m.Pooled), num(m.Accuracy), num(m.SD), num(m.BalancedAccuracy), num(m.MacroF1), num(m.Kappa)}
 }
 
 func (p *printer) confusion(title string, c *evaluate.Confusion) {

@@ -59,7 +59,7 @@ func runDemo(ctx context.Context, opts demoOptions, stdout io.Writer) error {
 	}
 	const folds, seed = 10, 1
 	learner := evaluate.Learner{Fit: fit.Options{Rule: fit.Delta{}, Seed: seed}}
-	s, err := evaluate.RunStudy(ctx, d, learner, folds, seed)
+	s, err := evaluate.RunStudy(ctx, d, learner, evaluate.StudyOptions{Folds: folds, Seed: seed})
 	if err != nil {
 		return err
 	}

@@ -12,6 +12,7 @@ import (
 func TestExitCodes(t *testing.T) {
 	iris := filepath.Join("..", "..", "testdata", "iris.csv")
 	xor := filepath.Join("..", "..", "testdata", "xor.csv")
+	and := filepath.Join("..", "..", "testdata", "and.csv")
 	for _, tc := range []struct {
 		name string
 		args []string
@@ -27,7 +28,8 @@ func TestExitCodes(t *testing.T) {
 		{"one fold", []string{"fit", iris, "--target", "species", "--folds", "1"}, 2, "--folds 1"},
 		{"unknown target", []string{"fit", iris, "--target", "colour"}, 1, `column colour: there is no target column of that name`},
 		{"no such file", []string{"fit", "nope.csv", "--target", "y"}, 1, "cannot open the data"},
-		{"too many folds for a class", []string{"fit", xor, "--target", "y", "--folds", "3"}, 1, `class "0" has 2 rows; 3 folds need at least 3`},
+		{"more folds than rows", []string{"fit", xor, "--target", "y", "--folds", "5"}, 1, `5 folds for 4 rows`},
+		{"a class smaller than the folds is a warning", []string{"fit", and, "--target", "y", "--folds", "2"}, 0, `warning: ../../testdata/and.csv: class "1" has 1 row, fewer than the 2 folds`},
 		// Widrow & Stearns 1985: LMS diverges for rates above 2/λmax.
 		{"divergence", []string{"fit", iris, "--target", "species", "--unit", "linear", "--rate", "50"}, 1, "try --rate auto"},
 		{"missing model", []string{"predict", "--model", "none.json", iris}, 1, "cannot open the model"},

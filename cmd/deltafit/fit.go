@@ -103,8 +103,9 @@ type fitOptions struct {
 	input  inputFlags
 	learn  learnFlags
 	output string
-	folds  int
-	format string
+	folds   int
+	repeats int
+	format  string
 }
 
 func newFitCmd() *cobra.Command {
@@ -130,6 +131,7 @@ beside the majority-class and Hebbian baselines.
 	opts.learn.add(cmd)
 	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the model file here")
 	cmd.Flags().IntVar(&opts.folds, "folds", 0, "cross-validate with this many stratified folds (0: no cross-validation)")
+	cmd.Flags().IntVar(&opts.repeats, "repeats", 1, "repeat the cross-validation this many times, each with its own folds (needs --folds)")
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	return cmd
 }
@@ -148,13 +150,19 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if opts.folds == 1 || opts.folds < 0 {
 		return usagef("--folds %d: give 0 for no cross-validation, or at least 2", opts.folds)
 	}
+	if opts.repeats < 1 || (opts.repeats > 1 && opts.folds == 0) {
+		return usagef("--repeats %d: give at least 1, and more than 1 only with --folds", opts.repeats)
+	}
 	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin)
 	if err != nil {
 		return err
 	}
-	study, err := evaluate.RunStudy(ctx, d, learner, opts.folds, opts.learn.seed)
+	study, err := evaluate.RunStudy(ctx, d, learner, evaluate.StudyOptions{Folds: opts.folds, Repeats: opts.repeats, Seed: opts.learn.seed})
 	if err != nil {
 		return divergenceHint(err, opts.learn)
+	}
+	for _, c := range study.SmallClasses {
+		fmt.Fprintf(stderr, "deltafit: warning: %s: %s\n", tabular.DisplayName(path), c)
 	}
 	if study.Fitted.Classifier.Plan.Width() == 0 {
 		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", tabular.DisplayName(path))
