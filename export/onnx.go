@@ -145,13 +145,13 @@ func MarshalONNX(m *Model, opts ONNXOptions) ([]byte, error) {
 		g.output(units, width, "the encoded input units")
 	}
 
-	unitNames, err := json.Marshal(m.Plan.UnitNames())
+	unitNames, err := jsonText(m.Plan.UnitNames())
 	if err != nil {
-		return nil, fmt.Errorf("export: %w", err)
+		return nil, err
 	}
-	labels, err := json.Marshal(m.Labels)
+	labels, err := jsonText(m.Labels)
 	if err != nil {
-		return nil, fmt.Errorf("export: %w", err)
+		return nil, err
 	}
 	var model protoMessage
 	model = model.varint(modelIRVersion, ONNXIRVersion)
@@ -163,8 +163,8 @@ func MarshalONNX(m *Model, opts ONNXOptions) ([]byte, error) {
 	model = model.message(modelGraph, g.marshal())
 	for _, kv := range [][2]string{
 		{"target", m.Target},
-		{"class_labels", string(labels)},
-		{"unit_names", string(unitNames)},
+		{"class_labels", labels},
+		{"unit_names", unitNames},
 		{"input_form", form},
 		{"output_unit", m.Network.Unit.String()},
 	} {
@@ -173,14 +173,27 @@ func MarshalONNX(m *Model, opts ONNXOptions) ([]byte, error) {
 	return []byte(model), nil
 }
 
+// jsonText returns names as a JSON array, with < > & as they are.
+func jsonText(names []string) (string, error) {
+	var b strings.Builder
+	enc := json.NewEncoder(&b)
+	enc.SetEscapeHTML(false)
+	if err := enc.Encode(names); err != nil {
+		return "", fmt.Errorf("export: %w", err)
+	}
+	return strings.TrimSuffix(b.String(), "\n"), nil
+}
+
 // onnxGraph builds a GraphProto. Its internal tensors (initializers and
-// node outputs) are named prefix + a running number + ":" + a label; the
-// prefix is a run of underscores that no input name starts with, so they
-// never clash with inputs, nor with the output "scores".
+// node outputs) are named prefix + a running number + ":" + the column
+// being encoded, if any, + "/" + a label, as "_12:wall_mm/cuts"; the prefix
+// is a run of underscores that no input name starts with, so they never
+// clash with inputs, nor with the output "scores".
 type onnxGraph struct {
 	nodes, initializers, inputs, outputs []protoMessage
 	prefix                               string
 	count                                int
+	column                               string            // the column being encoded, for names
 	constants                            map[string]string // shared scalar initializers by label
 }
 
@@ -201,6 +214,9 @@ func newONNXGraph(p *encode.Plan, form string) *onnxGraph {
 
 func (g *onnxGraph) name(label string) string {
 	g.count++
+	if g.column != "" {
+		label = g.column + "/" + label
+	}
 	return g.prefix + strconv.Itoa(g.count) + ":" + label
 }
 
@@ -253,18 +269,21 @@ func (g *onnxGraph) doubles(label string, dims []int, values []float64) string {
 	return name
 }
 
-// scalar returns a shared one-element initializer, [1], of value v.
-func (g *onnxGraph) scalar(elem int, v float64) string {
-	label := fmt.Sprintf("%d:%v", elem, v)
+// scalar returns a one-element initializer, [1], of value v, shared by every
+// use of the same label.
+func (g *onnxGraph) scalar(label string, elem int, v float64) string {
 	if name, ok := g.constants[label]; ok {
 		return name
 	}
+	column := g.column
+	g.column = ""
 	var name string
 	if elem == tensorDouble {
-		name = g.doubles(strconv.FormatFloat(v, 'g', -1, 64), []int{1}, []float64{v})
+		name = g.doubles(label, []int{1}, []float64{v})
 	} else {
-		name = g.floats(strconv.FormatFloat(v, 'g', -1, 32), []int{1}, []float64{v})
+		name = g.floats(label, []int{1}, []float64{v})
 	}
+	g.column = column
 	g.constants[label] = name
 	return name
 }
@@ -357,8 +376,10 @@ func (g *onnxGraph) encodeColumns(p *encode.Plan) (string, error) {
 		return nil
 	}
 	var blocks []string
+	defer func() { g.column = "" }()
 	for i := range p.Features {
 		f := &p.Features[i]
+		g.column = f.Column
 		width := f.Width()
 		if width == 0 {
 			continue
@@ -394,7 +415,7 @@ func (g *onnxGraph) encodeColumns(p *encode.Plan) (string, error) {
 			values := g.encodeNumeric(f, f.Column)
 			if f.Missing {
 				missingDouble := g.node("Cast", []string{missing}, intAttr("to", tensorDouble))
-				present := g.node("Sub", []string{g.scalar(tensorDouble, 1), missingDouble})
+				present := g.node("Sub", []string{g.scalar("one_double", tensorDouble, 1), missingDouble})
 				values = g.node("Mul", []string{values, present})
 			}
 			blocks = append(blocks, g.node("Cast", []string{values}, intAttr("to", tensorFloat)))
@@ -403,6 +424,7 @@ func (g *onnxGraph) encodeColumns(p *encode.Plan) (string, error) {
 			blocks = append(blocks, missing)
 		}
 	}
+	g.column = ""
 	return g.node("Concat", blocks, intAttr("axis", 1)), nil
 }
 
@@ -438,7 +460,7 @@ func (g *onnxGraph) encodeNumeric(f *encode.Feature, x string) string {
 		if f.Method == encode.MinMax {
 			a := g.node("Relu", []string{v})
 			over := g.above(a, []float64{1})
-			under := g.node("Sub", []string{g.scalar(tensorDouble, 1), over})
+			under := g.node("Sub", []string{g.scalar("one_double", tensorDouble, 1), over})
 			v = g.node("Add", []string{g.node("Mul", []string{a, under}), over})
 		}
 		return v
@@ -456,8 +478,8 @@ var stepScale = math.Ldexp(1, 600)
 // Relu(Tanh((x − cut)·2^600·2^600)); see WriteONNX.
 func (g *onnxGraph) above(x string, cuts []float64) string {
 	d := g.node("Sub", []string{x, g.doubles("cuts", []int{len(cuts)}, cuts)})
-	d = g.node("Mul", []string{d, g.scalar(tensorDouble, stepScale)})
-	d = g.node("Mul", []string{d, g.scalar(tensorDouble, stepScale)})
+	d = g.node("Mul", []string{d, g.scalar("2^600", tensorDouble, stepScale)})
+	d = g.node("Mul", []string{d, g.scalar("2^600", tensorDouble, stepScale)})
 	return g.node("Relu", []string{g.node("Tanh", []string{d})})
 }
 
