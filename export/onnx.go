@@ -86,8 +86,8 @@ type ONNXOptions struct {
 //   - A column without value units (a constant numeric column) has no value
 //     input.
 //
-// Comparisons are computed without Greater and Cast from bool, which not
-// every runtime offers: the unit "x > cut" is Relu(Tanh((x − cut)·2^600·2^600)),
+// Comparisons are computed without Greater and a Cast from bool, which some
+// runtimes lack (gonnx, which the tests run, has no Cast from bool): the unit "x > cut" is Relu(Tanh((x − cut)·2^600·2^600)),
 // in double. A positive difference is at least 2^-1074, so the product is at
 // least 2^126 or +Inf, where Tanh is exactly 1; a zero or negative
 // difference gives 0 (or −0). The unit is thus exactly the comparison for
@@ -194,7 +194,7 @@ type onnxGraph struct {
 	prefix                               string
 	count                                int
 	column                               string            // the column being encoded, for names
-	constants                            map[string]string // shared scalar initializers by label
+	constants                            map[string]string // shared scalars by label
 }
 
 func newONNXGraph(p *encode.Plan, form string) *onnxGraph {
@@ -223,7 +223,6 @@ func (g *onnxGraph) name(label string) string {
 // Tensor element types (TensorProto.DataType).
 const (
 	tensorFloat  = 1
-	tensorInt64  = 7
 	tensorDouble = 11
 )
 
@@ -269,20 +268,15 @@ func (g *onnxGraph) doubles(label string, dims []int, values []float64) string {
 	return name
 }
 
-// scalar returns a one-element initializer, [1], of value v, shared by every
-// use of the same label.
-func (g *onnxGraph) scalar(label string, elem int, v float64) string {
+// scalar returns a double initializer of shape [1] and value v, one for
+// every use of the same label.
+func (g *onnxGraph) scalar(label string, v float64) string {
 	if name, ok := g.constants[label]; ok {
 		return name
 	}
 	column := g.column
-	g.column = ""
-	var name string
-	if elem == tensorDouble {
-		name = g.doubles(label, []int{1}, []float64{v})
-	} else {
-		name = g.floats(label, []int{1}, []float64{v})
-	}
+	g.column = "" // shared, so named by no column
+	name := g.doubles(label, []int{1}, []float64{v})
 	g.column = column
 	g.constants[label] = name
 	return name
@@ -415,7 +409,7 @@ func (g *onnxGraph) encodeColumns(p *encode.Plan) (string, error) {
 			values := g.encodeNumeric(f, f.Column)
 			if f.Missing {
 				missingDouble := g.node("Cast", []string{missing}, intAttr("to", tensorDouble))
-				present := g.node("Sub", []string{g.scalar("one_double", tensorDouble, 1), missingDouble})
+				present := g.node("Sub", []string{g.scalar("one", 1), missingDouble})
 				values = g.node("Mul", []string{values, present})
 			}
 			blocks = append(blocks, g.node("Cast", []string{values}, intAttr("to", tensorFloat)))
@@ -460,7 +454,7 @@ func (g *onnxGraph) encodeNumeric(f *encode.Feature, x string) string {
 		if f.Method == encode.MinMax {
 			a := g.node("Relu", []string{v})
 			over := g.above(a, []float64{1})
-			under := g.node("Sub", []string{g.scalar("one_double", tensorDouble, 1), over})
+			under := g.node("Sub", []string{g.scalar("one", 1), over})
 			v = g.node("Add", []string{g.node("Mul", []string{a, under}), over})
 		}
 		return v
@@ -478,8 +472,8 @@ var stepScale = math.Ldexp(1, 600)
 // Relu(Tanh((x − cut)·2^600·2^600)); see WriteONNX.
 func (g *onnxGraph) above(x string, cuts []float64) string {
 	d := g.node("Sub", []string{x, g.doubles("cuts", []int{len(cuts)}, cuts)})
-	d = g.node("Mul", []string{d, g.scalar("2^600", tensorDouble, stepScale)})
-	d = g.node("Mul", []string{d, g.scalar("2^600", tensorDouble, stepScale)})
+	d = g.node("Mul", []string{d, g.scalar("2^600", stepScale)})
+	d = g.node("Mul", []string{d, g.scalar("2^600", stepScale)})
 	return g.node("Relu", []string{g.node("Tanh", []string{d})})
 }
 

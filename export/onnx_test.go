@@ -23,6 +23,7 @@ import (
 	"deltafit/ingest/encode"
 	"deltafit/ingest/tabular"
 	"deltafit/internal/demo"
+	"deltafit/internal/refdata"
 )
 
 // scoreTolerance bounds |ONNX score − Predict score|. The graph holds the
@@ -57,6 +58,13 @@ func onnxCases() []onnxCase {
 		{"iris threshold", irisDataset, evaluate.Learner{Plan: numeric("threshold"), Fit: fit.Options{Seed: 1}}},
 		{"iris zscore linear", irisDataset, evaluate.Learner{Plan: numeric("zscore"), Fit: fit.Options{Seed: 1, Unit: fit.Linear}}},
 		{"iris minmax", irisDataset, evaluate.Learner{Plan: numeric("minmax"), Fit: fit.Options{Seed: 1}}},
+		// A constant column with missing cells: no value units
+		// (thermometer), one bin always on (onehot), a zero unit (zscore,
+		// minmax), each beside a missing-indicator unit.
+		{"iris constant thermometer", irisConstantDataset, evaluate.Learner{Fit: fit.Options{Seed: 1}}},
+		{"iris constant onehot bins", irisConstantDataset, evaluate.Learner{Plan: numeric("onehot:3"), Fit: fit.Options{Seed: 1}}},
+		{"iris constant zscore", irisConstantDataset, evaluate.Learner{Plan: numeric("zscore"), Fit: fit.Options{Seed: 1}}},
+		{"iris constant minmax", irisConstantDataset, evaluate.Learner{Plan: numeric("minmax"), Fit: fit.Options{Seed: 1}}},
 		// The invented demo: 3 classes, categorical and numeric columns
 		// with missing cells.
 		{"demo thermometer", demoDataset, evaluate.Learner{Fit: fit.Options{Seed: 1}}},
@@ -71,6 +79,24 @@ func onnxCases() []onnxCase {
 		// The Hebbian rule's targets are ±1, so On+Off is 0, not 1.
 		{"birthwt two classes hebbian", birthwtDataset, evaluate.Learner{Plan: numeric("zscore"), Fit: fit.Options{Seed: 1, Rule: fit.Hebbian{}}}},
 	}
+}
+
+// irisConstantDataset is Iris with a column "batch" added: 7 on every row
+// but every fifth, which is missing.
+func irisConstantDataset(t *testing.T) *tabular.Dataset {
+	t.Helper()
+	lines := strings.Split(strings.TrimRight(string(refdata.IrisCSV), "\n"), "\n")
+	for i := range lines {
+		switch {
+		case i == 0:
+			lines[i] = "batch," + lines[i]
+		case i%5 == 0:
+			lines[i] = "," + lines[i]
+		default:
+			lines[i] = "7," + lines[i]
+		}
+	}
+	return readDataset(t, "iris.csv", []byte(strings.Join(lines, "\n")), "species", "")
 }
 
 func demoDataset(t *testing.T) *tabular.Dataset {
@@ -248,6 +274,9 @@ func onnxInputs(t *testing.T, m *Model, table *tabular.Table, form string) gonnx
 		for r := range n {
 			raw[r] = cols[i].Numbers[r]
 			if cols[i].IsMissing(r) {
+				if !f.Missing {
+					t.Fatalf("row %d: column %s is missing, which the columns form cannot express without a missing unit", r+1, f.Column)
+				}
 				raw[r], missing[r] = 1e300, 1
 			}
 		}
@@ -359,7 +388,7 @@ func onnxChecker(t *testing.T) string {
 // the output of its form, and the metadata naming units and classes. Read
 // back with the generated ONNX types, a decoder independent of the writer.
 func TestONNXStructure(t *testing.T) {
-	m, _ := onnxCases()[5].model(t) // the demo: numeric, categorical, missing cells
+	m, _ := onnxCase{"demo", demoDataset, evaluate.Learner{}}.model(t) // numeric, categorical, missing cells
 	for _, form := range ONNXInputForms {
 		t.Run(form, func(t *testing.T) {
 			b, err := MarshalONNX(m, ONNXOptions{Inputs: form})
