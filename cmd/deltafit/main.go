@@ -91,6 +91,7 @@ model file that predict and evaluate use on new rows.
 		newFitCmd(),
 		newEvaluateCmd(),
 		newPredictCmd(),
+		newExportCmd(),
 		newDemoCmd(),
 		newCheckCmd(),
 		newSelfcheckCmd(),
