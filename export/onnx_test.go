@@ -19,6 +19,7 @@ import (
 
 	"deltafit/evaluate"
 	"deltafit/fit"
+	"deltafit/fit/model"
 	"deltafit/ingest"
 	"deltafit/ingest/encode"
 	"deltafit/ingest/tabular"
@@ -162,8 +163,7 @@ func (c onnxCase) model(t *testing.T) (*Model, *tabular.Table) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	m := &Model{Schema: SchemaVersion, Tool: "deltafit " + Version, Target: d.Target, Labels: d.Labels,
-		Plan: fitted.Plan, Network: fitted.Result.Network}
+	m := &Model{Schema: SchemaVersion, Tool: "deltafit " + Version, Classifier: *fitted.Classifier}
 	if err := m.Validate(); err != nil {
 		t.Fatal(err)
 	}
@@ -177,7 +177,7 @@ func TestONNXMatchesPredict(t *testing.T) {
 	worst := 0.0
 	for _, c := range onnxCases() {
 		m, table := c.model(t)
-		want, _, err := m.Predict(table)
+		want, _, err := m.PredictTable(table)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -200,10 +200,10 @@ func TestONNXMatchesPredict(t *testing.T) {
 				for r := range table.Rows {
 					row := scores[r*len(m.Labels) : (r+1)*len(m.Labels)]
 					for k, s := range row {
-						diff = max(diff, math.Abs(float64(s)-want.Scores[r][k]))
+						diff = max(diff, math.Abs(float64(s)-want.ScoresOf(r)[k]))
 					}
 					if got := firstMax(row); got != want.Predicted[r] {
-						t.Errorf("row %d: ONNX class %s, Predict %s (scores %v and %v)", r+1, m.Labels[got], m.Labels[want.Predicted[r]], row, want.Scores[r])
+						t.Errorf("row %d: ONNX class %s, Predict %s (scores %v and %v)", r+1, m.Labels[got], m.Labels[want.Predicted[r]], row, want.ScoresOf(r))
 					}
 				}
 				t.Logf("max |ONNX score − Predict score| = %.3g", diff)
@@ -471,11 +471,11 @@ func describe(v *onnx.ValueInfoProto) string {
 func TestONNXRefuses(t *testing.T) {
 	iris, _ := onnxCases()[0].model(t)
 	oneColumn := func(column string) *Model {
-		return &Model{Target: "y", Labels: []string{"a", "b"},
+		return &Model{Classifier: model.Classifier{Target: "y", Labels: []string{"a", "b"},
 			Plan: &encode.Plan{Features: []encode.Feature{
 				{Column: column, Kind: tabular.Numeric, Method: encode.ZScore, Scale: 1, Missing: true},
 			}},
-			Network: &fit.Network{Inputs: 2, Classes: 2, On: 1, Weights: [][]float64{{1, 1}}, Biases: []float64{0}}}
+			Network: &fit.Network{Inputs: 2, Classes: 2, On: 1, Weights: [][]float64{{1, 1}}, Biases: []float64{0}}}}
 	}
 	noUnits := oneColumn("x")
 	noUnits.Plan.Features = nil

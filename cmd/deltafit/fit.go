@@ -100,9 +100,9 @@ func (f *learnFlags) modelOptions(kinds []string) export.Options {
 }
 
 type fitOptions struct {
-	input  inputFlags
-	learn  learnFlags
-	output string
+	input   inputFlags
+	learn   learnFlags
+	output  string
 	folds   int
 	repeats int
 	format  string

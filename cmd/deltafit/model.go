@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 
 	"github.com/spf13/pflag"
 
@@ -32,21 +31,12 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *tabular
 	if m.model == "" {
 		return nil, nil, "", usagef("--model is required: give a model file written by fit -o")
 	}
-	var modelFile io.Reader = stdin
 	if m.model == "-" && path == "-" {
 		return nil, nil, "", usagef("--model - and DATA - cannot both be stdin; give one of them as a file")
 	}
-	if m.model != "-" {
-		f, err := os.Open(m.model)
-		if err != nil {
-			return nil, nil, "", fmt.Errorf("cannot open the model: %w", err)
-		}
-		defer f.Close()
-		modelFile = f
-	}
-	model, err := export.ReadModel(tabular.DisplayName(m.model), modelFile)
+	model, err := readModelFile(m.model, stdin)
 	if err != nil {
-		return nil, nil, "", fmt.Errorf("%w; fit a new model with deltafit fit -o", err)
+		return nil, nil, "", err
 	}
 	readOpts, err := m.input.readOptions()
 	if err != nil {

@@ -61,7 +61,7 @@ func TestQuantileCuts(t *testing.T) {
 	first10 := firstIrisRows(t, 10)
 	xor := fixture.ReadCSVText(t, "xor.csv", "x1,x2,y\n0,0,0\n0,1,1\n1,0,1\n1,1,0\n", ingest.ReadOptions{}) // XOR truth table, as testdata/xor.csv
 	mostlyOnes := fixture.ReadCSVText(t, "ones.csv", "x,c\n1,5\n0,5\n1,5\n1,5\n1,5\n1,5\n1,5\n1,5\n1,5\n1,5\n", ingest.ReadOptions{})
-	const tol = 1e-12                                                                                       // interpolating one-decimal values in float64 errs by ~1e-15
+	const tol = 1e-12 // interpolating one-decimal values in float64 errs by ~1e-15
 	tests := []struct {
 		name     string
 		col      *tabular.Column
