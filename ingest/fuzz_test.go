@@ -85,7 +85,7 @@ func FuzzReadTable(f *testing.F) {
 	})
 }
 
-var fuzzNumeric = []string{"thermometer", "onehot", "threshold", "zscore", "minmax"}
+var fuzzNumeric = []string{"thermometer", "onehot", "threshold", "zscore", "minmax", "hybrid"}
 
 // FuzzPlan fits an encoding plan on the first half of a table's rows and
 // encodes all of them. Invariants: no panic; errors are positioned or
@@ -100,7 +100,7 @@ func FuzzPlan(f *testing.F) {
 			return
 		}
 		opts := encode.Options{
-			Numeric:     encode.Encoding{Method: fuzzNumeric[method%5], Bins: 2 + int(arg)%10},
+			Numeric:     encode.Encoding{Method: fuzzNumeric[int(method)%len(fuzzNumeric)], Bins: 2 + int(arg)%10},
 			Categorical: encode.Encoding{Method: encode.OneHot, Min: 1 + int(arg)%3},
 		}
 		if opts.Numeric.Method == encode.Threshold && arg%2 == 1 {
@@ -141,7 +141,7 @@ func FuzzPlan(f *testing.F) {
 		}
 		for k, v := range values {
 			f := feature(&back, k%width)
-			if f.Method == encode.ZScore {
+			if f.Method == encode.ZScore || (f.Method == encode.Hybrid && k%width == unitStart(&back, k%width)) {
 				if math.IsNaN(v) || math.IsInf(v, 0) {
 					t.Fatalf("zscore unit of %q is %v", f.Column, v)
 				}
@@ -152,6 +152,20 @@ func FuzzPlan(f *testing.F) {
 			}
 		}
 	})
+}
+
+// unitStart returns the first input unit of the feature that unit i
+// belongs to.
+func unitStart(p *encode.Plan, i int) int {
+	start := 0
+	for k := range p.Features {
+		w := p.Features[k].Width()
+		if i < start+w {
+			return start
+		}
+		start += w
+	}
+	return start
 }
 
 // feature returns the feature that input unit i belongs to.

@@ -2,6 +2,7 @@ package encode
 
 import (
 	"fmt"
+	"strconv"
 	"strings"
 
 	"deltafit/ingest/tabular"
@@ -17,6 +18,10 @@ const (
 	ZScore      = "zscore"      // numeric: (x − mean)/sd, continuous and not bounded to [0,1]
 	MinMax      = "minmax"      // numeric: (x − min)/(max − min), clipped to [0,1]
 	Flag        = "flag"        // boolean: one unit, on for true
+	Hybrid      = "hybrid"      // numeric: the zscore unit, then the thermometer units
+	// Auto is not an encoding of its own: a learner chooses, on its
+	// training rows, among AutoCandidates and fits the plan with the best.
+	Auto = "auto"
 )
 
 // OneHotBins is the numeric one-hot encoding; it is OneHot.
@@ -82,10 +87,42 @@ func lookup(kind tabular.Kind, name string) (method, bool) {
 	return m, ok
 }
 
-// ParseNumericEncoding parses thermometer[:K], onehot[:K], threshold[:V],
-// zscore or minmax.
+// ParseNumericEncoding parses auto[:K], thermometer[:K], onehot[:K],
+// threshold[:V], zscore, minmax or hybrid[:K].
 func ParseNumericEncoding(s string) (Encoding, error) {
-	return parseEncoding(tabular.Numeric, s, "thermometer[:K], onehot[:K], threshold[:V], zscore or minmax")
+	const want = "auto[:K], thermometer[:K], onehot[:K], threshold[:V], zscore, minmax or hybrid[:K]"
+	if name, arg, hasArg := strings.Cut(s, ":"); name == Auto {
+		e := Encoding{Method: Auto}
+		if err := parseBins(&e, arg, hasArg); err != nil {
+			return e, fmt.Errorf("ingest: numeric encoding %q: %w", s, err)
+		}
+		return e, nil
+	}
+	return parseEncoding(tabular.Numeric, s, want)
+}
+
+// AutoCandidates are the numeric encodings an auto encoding chooses among,
+// in the order that breaks ties (fewer units first): one standardized unit
+// per column, thermometer:K, and hybrid:K, K from auto:K.
+func AutoCandidates(auto Encoding) []Encoding {
+	bins := auto.Bins
+	if bins == 0 {
+		bins = DefaultBins
+	}
+	return []Encoding{{Method: ZScore}, {Method: Thermometer, Bins: bins}, {Method: Hybrid, Bins: bins}}
+}
+
+// String formats e as the flags take it.
+func (e Encoding) String() string {
+	switch {
+	case e.Method == Thermometer || e.Method == Hybrid || e.Method == Auto || (e.Method == OneHot && e.Min == 0):
+		return fmt.Sprintf("%s:%d", e.Method, e.Bins)
+	case e.Method == OneHot:
+		return fmt.Sprintf("%s:%d", e.Method, e.Min)
+	case e.Method == Threshold && e.Cut != nil:
+		return fmt.Sprintf("%s:%s", e.Method, strconv.FormatFloat(*e.Cut, 'g', -1, 64))
+	}
+	return e.Method
 }
 
 // ParseCategoricalEncoding parses onehot[:MIN].

@@ -94,6 +94,9 @@ func PlanFromSummaries(summaries []*Summary, opts Options) (*Plan, error) {
 	for _, s := range summaries {
 		e := opts.encoding(s.Kind)
 		m, ok := lookup(s.Kind, e.Method)
+		if !ok && e.Method == Auto {
+			return nil, errors.New("ingest: the auto encoding is chosen by a learner on its training rows; give the plan the encoding it chose")
+		}
 		if !ok {
 			return nil, fmt.Errorf("ingest: unknown %s encoding %q", s.Kind, e.Method)
 		}

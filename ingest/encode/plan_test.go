@@ -18,7 +18,7 @@ import (
 )
 
 // numericEncodings are every numeric encoding, parsed from its flag text.
-var numericEncodings = []string{"thermometer", "thermometer:2", "thermometer:5", "onehot", "onehot:3", "threshold", "threshold:1.5", "zscore", "minmax"}
+var numericEncodings = []string{"thermometer", "thermometer:2", "thermometer:5", "onehot", "onehot:3", "threshold", "threshold:1.5", "zscore", "minmax", "hybrid", "hybrid:3"}
 
 func mustNumeric(t testing.TB, s string) encode.Encoding {
 	t.Helper()
@@ -388,7 +388,7 @@ func eachIrisPlan(t *testing.T, check func(t *testing.T, tab *tabular.Table, p *
 }
 
 // TestEncodeUnitRange: over Iris with gaps and a boolean column, every unit
-// of every encoding is in [0,1] except zscore; one-hot features have exactly
+// of every encoding is in [0,1] except zscore (also hybrid's first); one-hot features have exactly
 // one unit on; thermometer units are on up to some k and off above it.
 func TestEncodeUnitRange(t *testing.T) {
 	eachIrisPlan(t, func(t *testing.T, tab *tabular.Table, p *encode.Plan) {
@@ -418,6 +418,13 @@ func TestEncodeUnitRange(t *testing.T) {
 }
 
 func checkUnits(f encode.Feature, values []float64, missing bool) error {
+	if f.Method == encode.Hybrid {
+		// The zscore unit, then thermometer units.
+		if missing && values[0] != 0 {
+			return fmt.Errorf("a missing cell has zscore unit %v", values[0])
+		}
+		f.Method, values = encode.Thermometer, values[1:]
+	}
 	if f.Method != encode.ZScore {
 		for _, v := range values {
 			if v < 0 || v > 1 {
