@@ -24,6 +24,9 @@ type Learner struct {
 type Fitted struct {
 	Classifier *model.Classifier
 	Result     *fit.Result
+	// Encoding says how the numeric encoding was chosen when the learner's
+	// was auto; nil otherwise.
+	Encoding *EncodingChoice
 }
 
 // Train fits the plan on rows of d (0-based; nil means all) and trains the
@@ -39,6 +42,13 @@ func (l Learner) Train(d *tabular.Dataset, rows []int) (*Fitted, error) {
 // cross-validation predicts its test rows from the same encoding without
 // encoding them again.
 func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*Fitted, fit.Patterns, error) {
+	var choice *EncodingChoice
+	if l.Plan.Numeric.Method == encode.Auto {
+		var err error
+		if l.Plan.Numeric, choice, err = l.chooseNumeric(ctx, d, rows, workers); err != nil {
+			return nil, fit.Patterns{}, err
+		}
+	}
 	plan, err := encode.FitPlan(d.Features, rows, l.Plan)
 	if err != nil {
 		return nil, fit.Patterns{}, err
@@ -57,7 +67,7 @@ func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, work
 		return nil, fit.Patterns{}, err
 	}
 	c := &model.Classifier{Target: d.Target, Labels: d.Labels, Plan: plan, Network: res.Network}
-	return &Fitted{Classifier: c, Result: res}, all, nil
+	return &Fitted{Classifier: c, Result: res, Encoding: choice}, all, nil
 }
 
 // classesOf returns the classes of the given rows of d.

@@ -36,7 +36,7 @@ func irisModel(t *testing.T) (*Model, *tabular.Dataset) {
 		t.Fatal(err)
 	}
 	opts := Options{Rule: "delta", Unit: "logistic", Epochs: 200, Rate: "auto", Numeric: "thermometer:8", Categorical: "onehot:1", Seed: 1, Ignore: []string{}, Kinds: map[string]string{}}
-	return NewModel(fitted.Classifier, fitted.Result, opts, DataInfo{Rows: d.Table.Rows, SHA256: "test"}), d
+	return NewModel(fitted, opts, DataInfo{Rows: d.Table.Rows, SHA256: "test"}), d
 }
 
 // Round trip: write → read → equal, and writing again gives the same bytes.
@@ -159,6 +159,7 @@ func TestFitReportGolden(t *testing.T) {
 	}
 	report := &FitReport{
 		Data:     DataSummary{Source: "iris.csv", SHA256: "test", Rows: 150, Features: 4, Inputs: m.Plan.Width(), Target: "species", Labels: d.Labels, ClassCounts: []int{50, 50, 50}},
+		Plan:     NewPlanSummary(m.Plan, nil),
 		Training: NewTrainingSummary(m),
 		CV:       NewCVReport(1, main, majority, hebbian),
 		Model:    "iris.model.json",

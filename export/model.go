@@ -11,6 +11,7 @@ import (
 	"slices"
 	"strings"
 
+	"deltafit/evaluate"
 	"deltafit/fit"
 	"deltafit/fit/model"
 	"deltafit/ingest/encode"
@@ -39,17 +40,19 @@ type Model struct {
 	Data     DataInfo `json:"data"`
 }
 
-// NewModel is the model file of a classifier fitted with res on data of
-// the given rows and sha256, and the options as the user gave them.
-func NewModel(c *model.Classifier, res *fit.Result, opts Options, data DataInfo) *Model {
-	return &Model{
+// NewModel is the model file of a fitted classifier, on data of the given
+// rows and sha256, with the options as the user gave them.
+func NewModel(f *evaluate.Fitted, opts Options, data DataInfo) *Model {
+	m := &Model{
 		Schema:     SchemaVersion,
 		Tool:       "deltafit " + Version,
-		Classifier: *c,
+		Classifier: *f.Classifier,
 		Options:    opts,
-		Training:   NewTraining(res),
+		Training:   NewTraining(f.Result),
 		Data:       data,
 	}
+	m.Training.Encoding = f.Encoding
+	return m
 }
 
 // Options are the options a model was fitted with, as the user gave them.
@@ -76,6 +79,8 @@ type Training struct {
 	Loss      float64          `json:"loss"`
 	Stop      string           `json:"stop"`
 	History   []fit.EpochStats `json:"history"`
+	// Encoding says how an auto numeric encoding was chosen.
+	Encoding *evaluate.EncodingChoice `json:"encoding_choice,omitempty"`
 }
 
 // DataInfo identifies the training data.

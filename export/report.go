@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"strconv"
+	"strings"
 
 	"github.com/olekukonko/tablewriter"
 	"github.com/olekukonko/tablewriter/renderer"
@@ -190,9 +191,37 @@ func summarise(r *evaluate.CVResult) MethodSummary {
 // FitReport is what `deltafit fit` reports.
 type FitReport struct {
 	Data     DataSummary     `json:"data"`
+	Plan     PlanSummary     `json:"plan"`
 	Training TrainingSummary `json:"training"`
 	CV       *CVReport       `json:"cv,omitempty"`
 	Model    string          `json:"model,omitempty"` // path of the model file written
+}
+
+// PlanSummary is how the feature columns were encoded.
+type PlanSummary struct {
+	Columns []ColumnPlan `json:"columns"`
+	// Choice says how the auto numeric encoding was chosen; absent when the
+	// encoding was given.
+	Choice *evaluate.EncodingChoice `json:"auto,omitempty"`
+}
+
+// ColumnPlan is the encoding of one feature column.
+type ColumnPlan struct {
+	Column   string `json:"column"`
+	Kind     string `json:"kind"`
+	Encoding string `json:"encoding"`
+	Units    int    `json:"units"`
+	Missing  bool   `json:"missing_unit"`
+}
+
+// NewPlanSummary summarises a plan and, for an auto encoding, its choice.
+func NewPlanSummary(plan *encode.Plan, choice *evaluate.EncodingChoice) PlanSummary {
+	s := PlanSummary{Columns: make([]ColumnPlan, len(plan.Features)), Choice: choice}
+	for i := range plan.Features {
+		f := &plan.Features[i]
+		s.Columns[i] = ColumnPlan{Column: f.Column, Kind: f.Kind.String(), Encoding: f.Method, Units: f.Width(), Missing: f.Missing}
+	}
+	return s
 }
 
 // NewFitReport reports a study of d (whose bytes have the given sha256),
@@ -201,6 +230,7 @@ type FitReport struct {
 func NewFitReport(s *evaluate.Study, d *tabular.Dataset, sha string, seed uint64, modelPath string) *FitReport {
 	r := &FitReport{
 		Data:     NewDataSummary(d, s.Fitted.Classifier.Plan, sha),
+		Plan:     NewPlanSummary(s.Fitted.Classifier.Plan, s.Fitted.Encoding),
 		Training: trainingSummary(s.Fitted.Result.Network, NewTraining(s.Fitted.Result), d.Table.Rows),
 		Model:    modelPath,
 	}
@@ -268,7 +298,46 @@ func writeReport(w io.Writer, format Format, r any, title string, data DataSumma
 	return p.err
 }
 
+// planColumnsShown is the most columns the text report lists in its
+// encoding table; JSON lists them all.
+const planColumnsShown = 12
+
+func (p *printer) plan(s PlanSummary) {
+	if c := s.Choice; c != nil {
+		var scores []string
+		for _, k := range c.Candidates {
+			scores = append(scores, k.Encoding+" "+num(k.Accuracy))
+		}
+		if len(scores) > 0 {
+			p.line("encoding: auto chose %s for numeric columns (%s; accuracy on %s: %s)", c.Chosen, c.Basis, count(c.CheckRows, "held-out row"), strings.Join(scores, ", "))
+		} else {
+			p.line("encoding: auto chose %s for numeric columns (%s)", c.Chosen, c.Basis)
+		}
+	}
+	rows := make([][]string, 0, min(len(s.Columns), planColumnsShown))
+	for i, c := range s.Columns {
+		if i == planColumnsShown {
+			break
+		}
+		encoding := c.Encoding
+		if c.Missing {
+			encoding += " + missing"
+		}
+		rows = append(rows, []string{c.Column, c.Kind, encoding, strconv.Itoa(c.Units)})
+	}
+	if len(rows) == 0 {
+		return
+	}
+	if len(s.Columns) > planColumnsShown {
+		p.subheading(fmt.Sprintf("encoding of the first %d of %d feature columns (all in --format json)", planColumnsShown, len(s.Columns)))
+	} else {
+		p.subheading("encoding of the feature columns")
+	}
+	p.table([]string{"column", "kind", "encoding", "units"}, rows, nil)
+}
+
 func (p *printer) training(r *FitReport) {
+	p.plan(r.Plan)
 	t := r.Training
 	p.line("training: %s rule, %s units, rate %s (%s)", t.Rule, t.Unit, num(t.Rate), rateNote(t))
 	p.line("          %s (stop: %s), %s in %s (accuracy %s), loss %s",

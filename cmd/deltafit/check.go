@@ -94,6 +94,11 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 	if err != nil {
 		return err
 	}
+	if learner.Plan.Numeric.Method == encode.Auto {
+		// Nothing is trained here to choose on: the encoded space uses
+		// thermometer units.
+		learner.Plan.Numeric = encode.AutoCandidates(learner.Plan.Numeric)[1]
+	}
 	report, err := separate.Check(d, separate.CheckOptions{Space: space, Plan: learner.Plan, Pairs: opts.pairs, Seed: opts.learn.seed})
 	if err != nil {
 		return err

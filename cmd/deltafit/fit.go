@@ -35,7 +35,7 @@ func (f *learnFlags) add(cmd *cobra.Command) {
 	fs := cmd.Flags()
 	fs.StringVar(&f.target, "target", "", "name of the column holding the class (required)")
 	fs.StringSliceVar(&f.ignore, "ignore", nil, "columns to leave out, such as ids (comma-separated)")
-	fs.StringVar(&f.numeric, "numeric", "thermometer:8", "numeric encoding: thermometer[:K], onehot[:K], threshold[:V], zscore or minmax")
+	fs.StringVar(&f.numeric, "numeric", "auto", "numeric encoding: auto[:K] (chosen on the training rows among zscore, thermometer:K and hybrid:K), thermometer[:K], onehot[:K], threshold[:V], zscore, minmax or hybrid[:K]")
 	fs.StringVar(&f.categorical, "categorical", "onehot:1", "categorical encoding: onehot[:MIN], values seen fewer than MIN times share the other unit")
 	fs.StringVar(&f.rule, "rule", "delta", "learning rule: delta, or hebbian (one pass, linear outputs: --epochs and --unit do not apply)")
 	fs.StringVar(&f.unit, "unit", "logistic", "output unit: logistic or linear")
@@ -168,7 +168,7 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", tabular.DisplayName(path))
 	}
 	if opts.output != "" {
-		model := export.NewModel(study.Fitted.Classifier, study.Fitted.Result,
+		model := export.NewModel(study.Fitted,
 			opts.learn.modelOptions(opts.input.kinds), export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
 		if err := export.WriteFile(opts.output, func(w io.Writer) error { return export.WriteModel(w, model) }); err != nil {
 			return err
