@@ -53,7 +53,7 @@ func TestTrainingFoldDoesNotSeeHeldOutRows(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, numeric := range []string{"thermometer:8", "onehot:4", "threshold", "zscore", "minmax"} {
+	for _, numeric := range []string{"thermometer:8", "onehot:4", "threshold", "zscore", "minmax", "hybrid:4", "auto"} {
 		t.Run(numeric, func(t *testing.T) {
 			enc, err := encode.ParseNumericEncoding(numeric)
 			if err != nil {
@@ -74,6 +74,9 @@ func TestTrainingFoldDoesNotSeeHeldOutRows(t *testing.T) {
 			}
 			if !reflect.DeepEqual(clean.Result.Network, dirty.Result.Network) {
 				t.Error("the weights changed with the held-out rows")
+			}
+			if !reflect.DeepEqual(clean.Encoding, dirty.Encoding) {
+				t.Errorf("the auto choice changed with the held-out rows: %+v, then %+v", clean.Encoding, dirty.Encoding)
 			}
 			// And the check can fail: scrambling a training row does change the plan.
 			moved, err := l.Train(withHeldOutScrambled(d, train[:1]), train)
