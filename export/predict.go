@@ -22,7 +22,7 @@ func WritePredictionsCSV(w io.Writer, p *model.Predictions) error {
 	}
 	record := make([]string, len(header))
 	for n, class := range p.Predicted {
-		record[0] = strconv.Itoa(p.Rows[n] + 1)
+		record[0] = strconv.Itoa(p.RowNumber(n))
 		record[1] = p.Labels[class]
 		for j, s := range p.ScoresOf(n) {
 			record[2+j] = strconv.FormatFloat(s, 'g', 6, 64)

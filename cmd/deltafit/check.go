@@ -19,6 +19,7 @@ const exitNotSeparable = 3
 
 type checkOptions struct {
 	input   inputFlags
+	missing missingPolicy
 	learn   learnFlags // the target, --ignore, the encodings and the seed
 	space   string
 	pairs   bool
@@ -66,6 +67,7 @@ separable, or undecided).`,
 		},
 	}
 	opts.input.add(cmd.Flags())
+	opts.missing.add(cmd.Flags())
 	opts.learn.add(cmd)
 	cmd.Flags().Lookup("seed").Usage = "seed of the order in which the solver takes rows into its working set"
 	for _, name := range []string{"rule", "unit", "epochs", "rate"} {
@@ -78,7 +80,7 @@ separable, or undecided).`,
 	return cmd
 }
 
-func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader, stdout, _ io.Writer) error {
+func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
 	format, err := reportFormat(opts.format)
 	if err != nil {
 		return err
@@ -90,7 +92,7 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 	if opts.require != "" && opts.require != "separable" {
 		return usagef(`--require %q: the only requirement is "separable"`, opts.require)
 	}
-	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin)
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, opts.missing, path, stdin, stderr)
 	if err != nil {
 		return err
 	}

@@ -2,12 +2,14 @@ package main
 
 import (
 	"context"
+	"fmt"
 	"io"
 
 	"github.com/spf13/cobra"
 
 	"deltafit/evaluate"
 	"deltafit/export"
+	"deltafit/ingest/tabular"
 )
 
 type evaluateOptions struct {
@@ -46,6 +48,10 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	model, table, sha, err := opts.load(path, stdin)
 	if err != nil {
 		return err
+	}
+	table = (&missingPolicy{}).apply(table, model.Target, nil, stderr)
+	if sha == model.Data.SHA256 {
+		fmt.Fprintf(stderr, "deltafit: warning: %s: these are the bytes the model was trained on (same sha256): the figures are optimistic; evaluate on rows the model has not seen, or cross-validate with fit --folds\n", tabular.DisplayName(path))
 	}
 	confusion, stats, err := evaluate.ScoreTable(&model.Classifier, table)
 	if err != nil {

@@ -101,6 +101,7 @@ func (f *learnFlags) modelOptions(kinds []string) export.Options {
 
 type fitOptions struct {
 	input   inputFlags
+	missing missingPolicy
 	learn   learnFlags
 	output  string
 	folds   int
@@ -128,6 +129,7 @@ beside the majority-class and Hebbian baselines.
 		},
 	}
 	opts.input.add(cmd.Flags())
+	opts.missing.add(cmd.Flags())
 	opts.learn.add(cmd)
 	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the model file here")
 	cmd.Flags().IntVar(&opts.folds, "folds", 0, "cross-validate with this many stratified folds (0: no cross-validation)")
@@ -153,7 +155,7 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if opts.repeats < 1 || (opts.repeats > 1 && opts.folds == 0) {
 		return usagef("--repeats %d: give at least 1, and more than 1 only with --folds", opts.repeats)
 	}
-	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin)
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, opts.missing, path, stdin, stderr)
 	if err != nil {
 		return err
 	}
@@ -179,9 +181,12 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 
 // loadDataset checks the encoding and training flags, then reads the data
 // and picks its target, returning the sha256 of the bytes read.
-func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reader) (evaluate.Learner, *tabular.Dataset, string, error) {
+func loadDataset(input inputFlags, learn learnFlags, missing missingPolicy, path string, stdin io.Reader, stderr io.Writer) (evaluate.Learner, *tabular.Dataset, string, error) {
 	learner, err := learn.learner()
 	if err != nil {
+		return learner, nil, "", err
+	}
+	if err := missing.check(); err != nil {
 		return learner, nil, "", err
 	}
 	readOpts, err := input.readOptions()
@@ -191,6 +196,9 @@ func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reade
 	table, sha, err := readTable(path, stdin, readOpts)
 	if err != nil {
 		return learner, nil, "", err
+	}
+	if table.Column(learn.target) != nil {
+		table = missing.apply(table, learn.target, learn.ignore, stderr)
 	}
 	d, err := tabular.NewDataset(table, learn.target, learn.ignore)
 	return learner, d, sha, err

@@ -19,10 +19,21 @@ type Classifier struct {
 
 // Predictions are the classes and per-class scores of some rows.
 type Predictions struct {
-	Labels    []string
-	Rows      []int     // 0-based rows of the table, in the order scored
+	Labels []string
+	Rows   []int // 0-based rows of the table, in the order scored
+	// RowNumbers are the rows' 1-based numbers in the input, for output and
+	// messages (tabular.Table.RowNumber); nil means Rows[n]+1.
+	RowNumbers []int
 	Predicted []int     // class index per row
 	Scores    []float64 // len(Labels) scores per row, row after row
+}
+
+// RowNumber returns the 1-based input row number of the n-th row scored.
+func (p *Predictions) RowNumber(n int) int {
+	if p.RowNumbers == nil {
+		return p.Rows[n] + 1
+	}
+	return p.RowNumbers[n]
 }
 
 // Len is the number of rows.
@@ -42,7 +53,17 @@ func (c *Classifier) PredictTable(t *tabular.Table) (*Predictions, encode.Stats,
 	if err != nil {
 		return nil, encode.Stats{}, err
 	}
-	return c.Predict(t.Name, cols, nil)
+	p, stats, err := c.Predict(t.Name, cols, nil)
+	// Rows left out after reading keep their input numbers in messages.
+	var de *tabular.DataError
+	if errors.As(err, &de) && de.Row > 0 {
+		de.Row = t.RowNumber(de.Row - 1)
+	}
+	stats.Renumber(t.RowNumber)
+	if p != nil && t.RowNumbers != nil {
+		p.RowNumbers = t.RowNumbers
+	}
+	return p, stats, err
 }
 
 // blockValues is the most encoded values Predict holds at once.

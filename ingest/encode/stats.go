@@ -40,6 +40,18 @@ func merge(m *map[string]Surprise, col string, s Surprise) {
 	(*m)[col] = s
 }
 
+// Renumber maps the 1-based first rows through number, which takes a
+// 0-based row of the encoded columns and returns its row number in the
+// input (tabular.Table.RowNumber).
+func (s *Stats) Renumber(number func(row int) int) {
+	for _, m := range []map[string]Surprise{s.Other, s.MissingNoUnit} {
+		for col, n := range m {
+			n.FirstRow = number(n.FirstRow - 1)
+			m[col] = n
+		}
+	}
+}
+
 // Merge adds the counts of other, as when rows are encoded in blocks.
 func (s *Stats) Merge(other Stats) {
 	for col, n := range other.Other {

@@ -19,8 +19,14 @@ type Dataset struct {
 	Features []*Column // every column but the target and the ignored ones, in table order
 }
 
+// MaxNumericClasses is the most distinct values a numeric target may
+// hold: a numeric column with more looks continuous, and NewDataset
+// refuses it unless the column is declared categorical.
+const MaxNumericClasses = 20
+
 // NewDataset picks the target column and the features of t. Every row must
-// have a target value, and there must be at least two classes.
+// have a target value (see MissingTarget to leave out rows without one),
+// and there must be at least two classes.
 func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	col := t.Column(target)
 	if col == nil {
@@ -38,6 +44,10 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	if err != nil {
 		return nil, err
 	}
+	if col.Kind == Numeric && len(labels) > MaxNumericClasses {
+		return nil, &DataError{File: t.Name, Column: t.Index(target) + 1, Name: target,
+			Err: fmt.Errorf("the target holds %d distinct numbers, so it looks like a measurement, not a class (at most %d distinct numbers are taken as classes); group it into classes, or declare the column categorical to take each value as a class", len(labels), MaxNumericClasses)}
+	}
 	if len(labels) < 2 {
 		return nil, &DataError{File: t.Name, Column: t.Index(target) + 1, Name: target,
 			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", labels[0])}
@@ -54,6 +64,13 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 		d.Features = append(d.Features, c)
 	}
 	return d, nil
+}
+
+// MissingTarget reports whether row i of t has no value in the target
+// column; false when there is no such column.
+func MissingTarget(t *Table, target string) func(i int) bool {
+	col := t.Column(target)
+	return func(i int) bool { return col != nil && col.IsMissing(i) }
 }
 
 // delimiterHint suggests another delimiter when the header was read as one
@@ -89,7 +106,7 @@ func TargetClasses(t *Table, target string, labels []string) ([]int, error) {
 		}
 		k, ok := index[col.Value(i)]
 		if !ok {
-			return nil, &DataError{File: t.Name, Row: i + 1, Column: t.Index(target) + 1, Name: target,
+			return nil, &DataError{File: t.Name, Row: t.RowNumber(i), Column: t.Index(target) + 1, Name: target,
 				Err: fmt.Errorf("class %q is not one the model was trained on (%s)", col.Value(i), quoteList(labels))}
 		}
 		classes[i] = k
@@ -115,7 +132,7 @@ func targetClasses(t *Table, col *Column) ([]string, []int, error) {
 }
 
 func missingTarget(t *Table, col *Column, row int) error {
-	return &DataError{File: t.Name, Row: row + 1, Column: t.Index(col.Name) + 1, Name: col.Name,
+	return &DataError{File: t.Name, Row: t.RowNumber(row), Column: t.Index(col.Name) + 1, Name: col.Name,
 		Err: errors.New("the target cell is missing; every row needs a class (drop the row or fill it in)")}
 }
 

@@ -44,8 +44,17 @@ func TestNewDataset(t *testing.T) {
 			t.Errorf("features = %q, want %q", got, want)
 		}
 	})
-	t.Run("any column can be the target", func(t *testing.T) {
-		d, err := tabular.NewDataset(iris, "sepal_length", []string{"species"})
+	t.Run("a numeric column of many values is refused as the target", func(t *testing.T) {
+		// UCI iris.names: sepal length is a measurement in cm (35 distinct values here).
+		_, err := tabular.NewDataset(iris, "sepal_length", []string{"species"})
+		de := fixture.AsDataError(t, err)
+		if de.Column != 1 || !strings.Contains(de.Error(), "the target holds 35 distinct numbers, so it looks like a measurement") {
+			t.Errorf("error %v, want one naming column 1 and the 35 distinct numbers", err)
+		}
+	})
+	t.Run("any column declared categorical can be the target", func(t *testing.T) {
+		declared := fixture.ReadCSVText(t, "iris.csv", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"sepal_length": tabular.Categorical}})
+		d, err := tabular.NewDataset(declared, "sepal_length", []string{"species"})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -58,7 +67,7 @@ func TestNewDataset(t *testing.T) {
 // TestDatasetLabelOrder: labels sort numerically when all are numbers,
 // else as text, and Labels[Classes[i]] is the target value of row i.
 func TestDatasetLabelOrder(t *testing.T) {
-	// Petal width in tenths of a centimetre: whole numbers 1 to 25, whose
+	// Petal width in fifths of a centimetre: whole numbers 1 to 13, whose
 	// text order ("1" < "10" < "2") differs from their numeric order.
 	tenths := fixture.EditIris(func(c [][]string) {
 		for r := 1; r < len(c); r++ {
@@ -66,7 +75,7 @@ func TestDatasetLabelOrder(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			c[r][3] = strconv.Itoa(int(x*10 + 0.5))
+			c[r][3] = strconv.Itoa(int(x*5 + 0.5))
 		}
 	})
 	tests := []struct {
@@ -227,4 +236,32 @@ func TestTargetClasses(t *testing.T) {
 			t.Errorf("error names %q, want class: %v", de.Name, err)
 		}
 	})
+}
+
+// DropRows keeps the input row number of every row it keeps, so messages
+// name the row of the file.
+func TestDropRows(t *testing.T) {
+	tab := fixture.ReadCSVText(t, "iris.csv", fixture.IrisWithGaps(), ingest.ReadOptions{})
+	// Rows 10, 20, … have NA in sepal_width and row 5 no species.
+	kept, dropped := tab.DropRows(func(i int) bool { return !tab.Column("sepal_width").IsMissing(i) })
+	if dropped != 15 || kept.Rows != 135 {
+		t.Fatalf("dropped %d, kept %d; want 15 and 135", dropped, kept.Rows)
+	}
+	if kept.RowNumber(8) != 9 || kept.RowNumber(9) != 11 || kept.RowNumber(134) != 149 {
+		t.Errorf("row numbers %d %d %d, want 9 11 149", kept.RowNumber(8), kept.RowNumber(9), kept.RowNumber(134))
+	}
+	if kept.Column("sepal_width").MissingCount() != 0 || kept.Column("species").MissingCount() != 1 {
+		t.Error("the kept rows lost or gained missing cells")
+	}
+	again, dropped := kept.DropRows(func(i int) bool { return !tabular.MissingTarget(kept, "species")(i) })
+	if dropped != 1 || again.RowNumber(3) != 4 || again.RowNumber(4) != 6 {
+		t.Errorf("dropping the row without a species: %d dropped, rows %d %d", dropped, again.RowNumber(3), again.RowNumber(4))
+	}
+	if _, err := tabular.NewDataset(again, "species", nil); err != nil {
+		t.Error(err)
+	}
+	_, err := tabular.NewDataset(kept, "species", nil)
+	if de := fixture.AsDataError(t, err); de.Row != 5 {
+		t.Errorf("a missing target named row %d, want the input's row 5", de.Row)
+	}
 }

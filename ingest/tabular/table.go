@@ -99,6 +99,63 @@ type Table struct {
 	Name    string // where the table came from, for messages
 	Rows    int
 	Columns []*Column
+	// RowNumbers holds the 1-based row number in the input of each row,
+	// when rows were left out after reading (DropRows); nil means row i is
+	// input row i+1.
+	RowNumbers []int
+}
+
+// RowNumber returns the 1-based row number in the input of row i (0-based),
+// the number every message and output shows.
+func (t *Table) RowNumber(i int) int {
+	if t.RowNumbers == nil {
+		return i + 1
+	}
+	return t.RowNumbers[i]
+}
+
+// DropRows returns a table of the rows of t that keep accepts, in order,
+// each keeping its row number in the input, and how many were left out. t
+// is not modified; when no row is left out, t itself is returned.
+func (t *Table) DropRows(keep func(row int) bool) (*Table, int) {
+	var kept []int
+	for i := range t.Rows {
+		if keep(i) {
+			kept = append(kept, i)
+		}
+	}
+	if len(kept) == t.Rows {
+		return t, 0
+	}
+	out := &Table{Name: t.Name, Rows: len(kept), RowNumbers: make([]int, len(kept))}
+	for n, i := range kept {
+		out.RowNumbers[n] = t.RowNumber(i)
+	}
+	for _, c := range t.Columns {
+		nc := &Column{Name: c.Name, Kind: c.Kind}
+		if c.Numbers != nil {
+			nc.Numbers = make([]float64, len(kept))
+		}
+		if c.Text != nil {
+			nc.Text = make([]string, len(kept))
+		}
+		for n, i := range kept {
+			if c.Numbers != nil {
+				nc.Numbers[n] = c.Numbers[i]
+			}
+			if c.Text != nil {
+				nc.Text[n] = c.Text[i]
+			}
+			if c.IsMissing(i) {
+				if nc.Missing == nil {
+					nc.Missing = make([]bool, len(kept))
+				}
+				nc.Missing[n] = true
+			}
+		}
+		out.Columns = append(out.Columns, nc)
+	}
+	return out, t.Rows - len(kept)
 }
 
 // Column returns the column with the given name, or nil.
