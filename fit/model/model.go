@@ -24,8 +24,8 @@ type Predictions struct {
 	// RowNumbers are the rows' 1-based numbers in the input, for output and
 	// messages (tabular.Table.RowNumber); nil means Rows[n]+1.
 	RowNumbers []int
-	Predicted []int     // class index per row
-	Scores    []float64 // len(Labels) scores per row, row after row
+	Predicted  []int     // class index per row
+	Scores     []float64 // len(Labels) scores per row, row after row
 }
 
 // RowNumber returns the 1-based input row number of the n-th row scored.
