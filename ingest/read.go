@@ -8,12 +8,16 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"runtime"
+	"strings"
+	"sync/atomic"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
 	arrowcsv "github.com/apache/arrow-go/v18/arrow/csv"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
@@ -56,7 +60,12 @@ type ReadOptions struct {
 	// BatchRows is the number of rows per record batch; 0 means 4096.
 	BatchRows int
 	// Allocator for Arrow memory; nil means memory.DefaultAllocator.
+	// NewRecordReader caps what it holds at MaxReaderBytes.
 	Allocator memory.Allocator
+	// Warn, if not nil, is called by Collect with each warning: data read
+	// as something other than it says (a nonzero number too small for a
+	// float64, read as 0), one per column with a count and the first row.
+	Warn func(*DataError)
 }
 
 func (o ReadOptions) batchRows() int {
@@ -81,11 +90,29 @@ const MaxHeaderBytes = 1 << 20
 // the file than a value worth a category of its own.
 const MaxCellBytes = 1 << 20
 
-// MaxArrowBodyBytes caps one record batch body of an Arrow IPC stream. The
-// body is allocated from its declared length before it is read, so without
-// a cap a few bytes could claim terabytes; write larger data in smaller
+// MaxArrowBodyBytes caps one record batch of an Arrow IPC input: its body
+// as stored, and, when compressed, the decompressed lengths its buffers
+// declare. arrow-go allocates a compressed buffer from its declared length
+// before it decompresses, so each declared length is also checked against
+// what the buffer's frames can produce; write larger data in smaller
 // batches.
 const MaxArrowBodyBytes = 1 << 30
+
+// MaxColumns caps the columns of a table. An Arrow schema counts every
+// field, nested ones too (a field list may name one field a million times
+// in 4 MB, and arrow-go builds each); a CSV header or Parquet schema counts
+// its columns.
+const MaxColumns = 1 << 17
+
+// MaxReaderBytes caps the Arrow memory a reader holds at once (decoded
+// batches, dictionaries, decompression and page buffers). arrow-go
+// allocates on the reader's behalf from lengths in the file; an allocation
+// past the cap ends the read with an error instead.
+const MaxReaderBytes = 2 << 30
+
+// MaxParquetPageBytes caps a Parquet page, compressed or not, and a
+// compressed page may not claim more bytes than the file holds.
+const MaxParquetPageBytes = 64 << 20
 
 // NullValues are the cell texts read as missing.
 var NullValues = []string{"", "NA"}
@@ -104,8 +131,23 @@ var (
 // Arrow IPC files and Parquet keep their index at the end, so unless r is an
 // io.ReaderAt and io.Seeker they are buffered in memory first; CSV and Arrow
 // IPC streams are read as they arrive.
-func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.RecordReader, err error) {
-	defer recoverMalformed(name, &err)
+func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
+	opts.Allocator = newCappedAllocator(opts.allocator(), MaxReaderBytes)
+	rr, err := newRecordReader(name, r, opts)
+	if err != nil {
+		var de *DataError
+		if !errors.As(err, &de) {
+			err = &DataError{Err: err}
+		}
+		if de == nil || de.File == "" {
+			err.(*DataError).File = name
+		}
+		return nil, err
+	}
+	return &guardedReader{RecordReader: rr}, nil
+}
+
+func newRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
 	br := bufio.NewReaderSize(r, 64<<10)
 	head, err := br.Peek(8)
 	if len(head) == 0 {
@@ -130,42 +172,88 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 			if err := checkArrowFile(data); err != nil {
 				return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
 			}
-			return newArrowFileReader(name, data, opts)
+			return newArrowFileReader(data, opts)
 		}
-		stream, err := checkArrowStream(br)
-		if err != nil {
-			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
-		}
-		// ipc.NewReader ignores the metadata size limit, so a stream that
-		// does not start with a schema message (say, a CSV read with
-		// Format "arrow") would make it allocate whatever its first four
-		// bytes claim. The message reader applies arrow's 64 MiB limit;
-		// record bodies, allocated before they are read, are capped at
-		// MaxArrowBodyBytes.
-		mr := ipc.NewMessageReader(stream, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(MaxArrowBodyBytes))
-		rdr, err := ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
-		if err != nil {
-			return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
-		}
-		return rdr, nil
+		return newArrowStreamReader(br, opts)
 	case FormatParquet:
 		data, err := io.ReadAll(br)
 		if err != nil {
 			return nil, &DataError{File: name, Err: err}
 		}
-		return newParquetReader(name, data, opts)
+		return newParquetReader(data, opts)
 	}
 	return nil, &DataError{File: name, Err: fmt.Errorf("%w: format %q", ErrUnsupported, format)}
 }
 
-// recoverMalformed turns a panic inside the Arrow and Parquet decoders,
-// which some malformed files cause (flatbuffers reads past a short
-// buffer), into an error naming the file. Deferred by the functions that
-// call into them with untrusted bytes.
-func recoverMalformed(name string, err *error) {
-	if p := recover(); p != nil {
-		*err = &DataError{File: name, Err: fmt.Errorf("%w: the file is malformed (%v); is it truncated or of another format?", ErrUnsupported, p)}
+// decode calls fn, which hands untrusted bytes to arrow-go's decoders, and
+// returns its error, or the decoders' panic as an error. The decoders
+// panic on some malformed input (flatbuffers reading past a short buffer,
+// a failed decompression), always with an error or a string, and
+// cappedAllocator panics with *AllocationCapError; anything else is not
+// theirs and panics on, as a bug should.
+func decode(fn func() error) (err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			switch v := p.(type) {
+			case error:
+				err = v
+			case string:
+				err = errors.New(v)
+			default:
+				panic(fmt.Sprintf("ingest: unexpected panic in a decoder: %v", p))
+			}
+		}
+		err = decoderError(err)
+	}()
+	return fn()
+}
+
+// errMalformed replaces a decoder's error that carries Go runtime text
+// ("slice bounds out of range"), which says nothing to the user.
+var errMalformed = fmt.Errorf("%w: the file is malformed (its data does not fit its own layout); is it truncated or of another format?", ErrUnsupported)
+
+// decoderError makes an error that came out of arrow-go fit for the user:
+// a refused allocation as itself, Go runtime errors as errMalformed.
+func decoderError(err error) error {
+	if err == nil {
+		return nil
 	}
+	var capped *AllocationCapError
+	if errors.As(err, &capped) {
+		return capped
+	}
+	var rt runtime.Error
+	if errors.As(err, &rt) || strings.Contains(err.Error(), "runtime error") {
+		return errMalformed
+	}
+	return err
+}
+
+// guardedReader runs a reader's Next under decode, so a decoder's panic
+// ends the read with an error, and cleans the reader's errors with
+// decoderError.
+type guardedReader struct {
+	array.RecordReader
+	err error
+}
+
+func (g *guardedReader) Next() bool {
+	if g.err != nil {
+		return false
+	}
+	next := false
+	g.err = decode(func() error {
+		next = g.RecordReader.Next()
+		return nil
+	})
+	return next && g.err == nil
+}
+
+func (g *guardedReader) Err() error {
+	if g.err != nil {
+		return g.err
+	}
+	return decoderError(g.RecordReader.Err())
 }
 
 func sniff(head []byte) Format {
@@ -245,12 +333,45 @@ func peekHeader(br *bufio.Reader, delim rune) ([]string, *bufio.Reader, error) {
 	}
 }
 
-func newArrowFileReader(name string, data []byte, opts ReadOptions) (array.RecordReader, error) {
-	fr, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(opts.allocator()))
+// newArrowFileReader reads an Arrow IPC file that checkArrowFile passed.
+// Buffers that are not compressed are slices of data, not copies.
+func newArrowFileReader(data []byte, opts ReadOptions) (array.RecordReader, error) {
+	var fr *ipc.FileReader
+	err := decode(func() (err error) {
+		fr, err = ipc.NewMappedFileReader(data, ipc.WithAllocator(opts.allocator()))
+		return err
+	})
 	if err != nil {
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
+		return nil, &DataError{Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
+	}
+	if err := checkArrowTypes(fr.Schema()); err != nil {
+		fr.Close()
+		return nil, err
 	}
 	return &arrowFileReader{fr: fr, refs: 1}, nil
+}
+
+// newArrowStreamReader reads an Arrow IPC stream through a
+// checkedMessageReader. ipc.NewReader would allocate whatever a message
+// declares before reading it (and ignores the metadata size limit).
+func newArrowStreamReader(r io.Reader, opts ReadOptions) (array.RecordReader, error) {
+	mr := newCheckedMessageReader(r)
+	var rdr *ipc.Reader
+	err := decode(func() (err error) {
+		rdr, err = ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
+		return err
+	})
+	if err != nil {
+		if mr.err != nil {
+			err = mr.err // the check's own words, without arrow-go's wrapping
+		}
+		return nil, &DataError{Err: err}
+	}
+	if err := checkArrowTypes(rdr.Schema()); err != nil {
+		rdr.Release()
+		return nil, err
+	}
+	return rdr, nil
 }
 
 // arrowFileReader adapts ipc.FileReader to array.RecordReader.
@@ -299,20 +420,46 @@ func (r *arrowFileReader) Release() {
 	r.fr.Close()
 }
 
-func newParquetReader(name string, data []byte, opts ReadOptions) (array.RecordReader, error) {
-	pf, err := file.NewParquetReader(bytes.NewReader(data))
+// newParquetReader reads a Parquet file. Page sizes are capped at
+// MaxParquetPageBytes, and a compressed page at the file's size; column
+// chunks are checked against the file's size by arrow-go.
+func newParquetReader(data []byte, opts ReadOptions) (array.RecordReader, error) {
+	props := parquet.NewReaderProperties(opts.allocator())
+	props.MaxCompressedPageSize = min(MaxParquetPageBytes, int64(len(data)))
+	props.MaxUncompressedPageSize = MaxParquetPageBytes
+	var rr pqarrow.RecordReader
+	var pf *file.Reader
+	err := decode(func() (err error) {
+		pf, err = file.NewParquetReader(bytes.NewReader(data), file.WithReadProps(props))
+		if err != nil {
+			return err
+		}
+		if n := pf.MetaData().Schema.NumColumns(); n > MaxColumns {
+			return fmt.Errorf("the table has %d columns, over the cap of %d (MaxColumns)", n, MaxColumns)
+		}
+		fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: int64(opts.batchRows())}, opts.allocator())
+		if err != nil {
+			return err
+		}
+		schema, err := fr.Schema()
+		if err != nil {
+			return err
+		}
+		if err := checkArrowTypes(schema); err != nil {
+			return err
+		}
+		rr, err = fr.GetRecordReader(context.Background(), nil, nil)
+		return err
+	})
 	if err != nil {
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
-	}
-	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: int64(opts.batchRows())}, opts.allocator())
-	if err != nil {
-		pf.Close()
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
-	}
-	rr, err := fr.GetRecordReader(context.Background(), nil, nil)
-	if err != nil {
-		pf.Close()
-		return nil, &DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
+		if pf != nil {
+			pf.Close()
+		}
+		var de *DataError
+		if errors.As(err, &de) {
+			return nil, de
+		}
+		return nil, &DataError{Err: fmt.Errorf("not a readable Parquet file: %v", err)}
 	}
 	return &parquetReader{RecordReader: rr, pf: pf}, nil
 }
@@ -326,4 +473,54 @@ type parquetReader struct {
 func (r *parquetReader) Release() {
 	r.RecordReader.Release()
 	r.pf.Close()
+}
+
+// AllocationCapError is the error of a read that needed more Arrow memory
+// than MaxReaderBytes allows.
+type AllocationCapError struct {
+	Size, Outstanding, Cap int64
+}
+
+func (e *AllocationCapError) Error() string {
+	return fmt.Sprintf("reading needs %d more bytes of Arrow memory on top of %d, over the cap of %d (MaxReaderBytes); is a length in the file corrupt?",
+		e.Size, e.Outstanding, e.Cap)
+}
+
+// cappedAllocator passes allocations to another allocator while the bytes
+// outstanding stay within a cap, and panics with *AllocationCapError past
+// it: Allocate cannot return an error, and arrow-go's readers recover
+// their decoders' panics into errors (as decode does).
+type cappedAllocator struct {
+	memory.Allocator
+	cap         int64
+	outstanding atomic.Int64
+}
+
+func newCappedAllocator(mem memory.Allocator, cap int64) *cappedAllocator {
+	if c, ok := mem.(*cappedAllocator); ok && c.cap <= cap {
+		return c
+	}
+	return &cappedAllocator{Allocator: mem, cap: cap}
+}
+
+func (a *cappedAllocator) reserve(size int64) {
+	if now := a.outstanding.Add(size); size > 0 && now > a.cap {
+		a.outstanding.Add(-size)
+		panic(&AllocationCapError{Size: size, Outstanding: now - size, Cap: a.cap})
+	}
+}
+
+func (a *cappedAllocator) Allocate(size int) []byte {
+	a.reserve(int64(size))
+	return a.Allocator.Allocate(size)
+}
+
+func (a *cappedAllocator) Reallocate(size int, b []byte) []byte {
+	a.reserve(int64(size - len(b)))
+	return a.Allocator.Reallocate(size, b)
+}
+
+func (a *cappedAllocator) Free(b []byte) {
+	a.outstanding.Add(-int64(len(b)))
+	a.Allocator.Free(b)
 }
