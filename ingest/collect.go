@@ -107,11 +107,11 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*Table, erro
 
 // readError places a reader's error at the row that follows the last one read.
 func readError(name string, rows int, err error) *DataError {
-	var positioned *DataError
-	if errors.As(err, &positioned) {
-		de := *positioned
+	var capped *csvCapError
+	if errors.As(err, &capped) {
+		de := capped.dataError()
 		de.File = name
-		return &de
+		return de
 	}
 	de := &DataError{File: name, Row: rows + 1, Err: err}
 	var pe *csv.ParseError

@@ -11,6 +11,7 @@ import (
 	"runtime"
 	"strings"
 	"sync/atomic"
+	"unicode/utf8"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -87,8 +88,15 @@ const MaxHeaderBytes = 1 << 20
 
 // MaxCellBytes caps the size of one text cell. A longer cell is an error
 // naming it: it is far more often an open quote that swallowed the rest of
-// the file than a value worth a category of its own.
+// the file than a value worth a category of its own. CSV cells are checked
+// as they are read, before anything holds them whole.
 const MaxCellBytes = 1 << 20
+
+// MaxRecordBytes caps one CSV record (a row, quoted line breaks and all),
+// checked as it is read: the CSV parser holds a whole record in memory, in
+// buffers that grow by a quarter at a time, so a record costs about ten
+// times its size in allocations.
+const MaxRecordBytes = 8 << 20
 
 // MaxArrowBodyBytes caps one record batch of an Arrow IPC input: its body
 // as stored, and, when compressed, the decompressed lengths its buffers
@@ -276,9 +284,17 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 	if delim == 0 {
 		delim = ','
 	}
+	br = bufio.NewReaderSize(newCSVGuard(br, delim), 64<<10)
 	names, br, err := peekHeader(br, delim)
+	var capped *csvCapError
+	if errors.As(err, &capped) {
+		return nil, capped.dataError()
+	}
 	if err != nil {
 		return nil, &DataError{File: name, Line: 1, Err: err}
+	}
+	if len(names) > MaxColumns {
+		return nil, &DataError{File: name, Line: 1, Err: fmt.Errorf("the header has %d columns, over the cap of %d (MaxColumns)", len(names), MaxColumns)}
 	}
 	fields := make([]arrow.Field, len(names))
 	for i := range names {
@@ -287,10 +303,22 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 	rdr := arrowcsv.NewReader(br, arrow.NewSchema(fields, nil),
 		arrowcsv.WithHeader(true),
 		arrowcsv.WithComma(delim),
-		arrowcsv.WithChunk(opts.batchRows()),
+		arrowcsv.WithChunk(csvBatchRows(opts.batchRows(), len(names))),
 		arrowcsv.WithNullReader(true, NullValues...),
 		arrowcsv.WithAllocator(opts.allocator()))
 	return rdr, nil
+}
+
+// maxBatchCells bounds the cells of one CSV record batch: the Arrow
+// reader reserves room for a batch's rows in every column before reading
+// them, so a wide table gets fewer rows per batch.
+const maxBatchCells = 1 << 16
+
+// csvBatchRows is the number of rows per batch for a table of the given
+// width: rows, or fewer so that a batch holds at most maxBatchCells cells
+// (at least one row).
+func csvBatchRows(rows, columns int) int {
+	return max(1, min(rows, maxBatchCells/max(columns, 1)))
 }
 
 // peekHeader parses the header record without consuming it, so the Arrow
@@ -523,4 +551,146 @@ func (a *cappedAllocator) Reallocate(size int, b []byte) []byte {
 func (a *cappedAllocator) Free(b []byte) {
 	a.outstanding.Add(-int64(len(b)))
 	a.Allocator.Free(b)
+}
+
+// csvGuard passes CSV text through while following its quoting, so that a
+// cell longer than MaxCellBytes or a record longer than MaxRecordBytes ends
+// the read with a *csvCapError naming its line and column before the CSV
+// parser has buffered it (it holds a whole record, which the Arrow reader
+// then copies). It also turns a carriage return outside quotes into a line
+// feed, dropping the line feed of a CRLF pair: files from old Mac software
+// end lines with a lone CR, which the CSV parser would read as one line.
+type csvGuard struct {
+	r     io.Reader
+	delim []byte // the delimiter's UTF-8 bytes
+	err   error
+
+	matched   int  // bytes of delim matched so far
+	quoted    bool // inside a quoted cell
+	quoteSeen bool // a quote inside a quoted cell: the end, or half of ""
+	cellStart bool // at the start of a cell, where a quote opens one
+	afterCR   bool // the last byte was a CR turned into a line feed
+	cell      int  // bytes of the current cell's value
+	record    int  // bytes of the current record
+	line      int  // 1-based line of the current byte
+	cellLine  int  // line where the current cell began
+	column    int  // 1-based column of the current cell
+}
+
+func newCSVGuard(r io.Reader, delim rune) *csvGuard {
+	return &csvGuard{r: r, delim: utf8.AppendRune(nil, delim), cellStart: true, line: 1, cellLine: 1, column: 1}
+}
+
+// csvCapError is a CSV cell or record over its cap.
+type csvCapError struct {
+	line, column int
+	record       bool // the record, not the cell, is over the cap
+}
+
+func (e *csvCapError) Error() string {
+	if e.record {
+		return fmt.Sprintf("the row holds more than %d bytes, the cap (MaxRecordBytes); is a quote left open?", MaxRecordBytes)
+	}
+	return fmt.Sprintf("the cell holds more than %d bytes, the cap (MaxCellBytes); is a quote left open, or should the column be left out?", MaxCellBytes)
+}
+
+func (e *csvCapError) dataError() *DataError {
+	de := &DataError{Line: e.line, Err: e}
+	if !e.record {
+		de.Column = e.column
+	}
+	return de
+}
+
+func (g *csvGuard) Read(p []byte) (int, error) {
+	if g.err != nil {
+		return 0, g.err
+	}
+	n, err := g.r.Read(p)
+	w := 0 // bytes kept; a dropped LF and CR conversions happen in place
+	for i := range n {
+		c := p[i]
+		if g.afterCR {
+			g.afterCR = false
+			if c == '\n' {
+				continue
+			}
+		}
+		if c == '\r' && (!g.quoted || g.quoteSeen) {
+			c, g.afterCR = '\n', true
+		}
+		p[w] = c
+		w++
+		if capErr := g.step(c); capErr != nil {
+			g.err = capErr
+			return w, capErr
+		}
+	}
+	if err != nil {
+		g.err = err
+	}
+	return w, err
+}
+
+// step follows one byte of the text.
+func (g *csvGuard) step(c byte) error {
+	g.record++
+	switch {
+	case g.quoted && !g.quoteSeen:
+		if c == '"' {
+			g.quoteSeen = true
+			return g.check()
+		}
+		if c == '\n' {
+			g.line++
+		}
+		g.cell++
+		return g.check()
+	case g.quoted && c == '"': // "" inside quotes
+		g.quoteSeen = false
+		g.cell++
+		return g.check()
+	case g.quoted: // after the closing quote
+		g.quoted, g.quoteSeen = false, false
+	case g.cellStart && c == '"':
+		g.quoted, g.cellStart = true, false
+		return g.check()
+	}
+	g.cellStart = false
+	if c == '\n' {
+		g.line++
+		g.record, g.column = 0, 0
+		g.endCell()
+		return nil
+	}
+	if c == g.delim[g.matched] {
+		g.matched++
+		if g.matched == len(g.delim) {
+			g.endCell()
+		}
+		return nil
+	}
+	g.matched = 0
+	if c == g.delim[0] {
+		g.matched = 1
+		return nil
+	}
+	g.cell++
+	return g.check()
+}
+
+func (g *csvGuard) endCell() {
+	g.matched, g.cell, g.cellStart = 0, 0, true
+	g.column++
+	g.cellLine = g.line
+}
+
+func (g *csvGuard) check() error {
+	switch {
+	case g.cell > MaxCellBytes:
+		return &csvCapError{line: g.cellLine, column: g.column}
+	case g.record > MaxRecordBytes:
+		return &csvCapError{line: g.cellLine, column: g.column, record: true}
+	}
+	return nil
 }

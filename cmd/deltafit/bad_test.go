@@ -46,6 +46,40 @@ var generatedCases = map[string]func() []byte{
 	// MaxColumns: an Arrow schema of 4 MB that lists one field a million
 	// times; arrow-go would build a million fields.
 	"gen_arrow_schema_1m_fields": func() []byte { return arrowStreamRepeatedField(1 << 20) },
+	// MaxCellBytes, checked while reading: a 64 MB cell is refused before
+	// the CSV parser holds it.
+	"gen_cell_64mb": func() []byte {
+		return []byte("x,species\n" + strings.Repeat("a", 64<<20) + ",setosa\nb,versicolor\n")
+	},
+	// MaxRecordBytes: 20 cells just under MaxCellBytes in one row.
+	"gen_record_20mb": func() []byte {
+		var header strings.Builder
+		for i := range 20 {
+			fmt.Fprintf(&header, "c%d,", i)
+		}
+		cell := strings.Repeat("a", 1<<20-1)
+		return []byte(header.String() + "species\n" + strings.Repeat(cell+",", 20) + "setosa\n")
+	},
+	// A stray word of 1 MB in a numeric column: the message shows its
+	// first characters and its length, not the whole cell.
+	"gen_stray_word_1mb": func() []byte {
+		return []byte("x,species\n1,setosa\n2,versicolor\n3,setosa\n" + strings.Repeat("z", 1<<20-1) + ",versicolor\n")
+	},
+	// A wide table: 100,000 columns, 4 rows; read in small batches.
+	"gen_wide_100k_columns": func() []byte {
+		var b strings.Builder
+		for i := range 99_999 {
+			fmt.Fprintf(&b, "c%d,", i)
+		}
+		b.WriteString("species\n")
+		for row := range 4 {
+			for i := range 99_999 {
+				fmt.Fprintf(&b, "%d,", (i*7+row*3)%10)
+			}
+			b.WriteString([]string{"setosa\n", "versicolor\n"}[row%2])
+		}
+		return []byte(b.String())
+	},
 	// MaxCellBytes: one 10 MB field.
 	"gen_field_10mb": func() []byte {
 		return []byte("x,species\n" + strings.Repeat("a", 10<<20) + ",setosa\nb,versicolor\n")

@@ -78,7 +78,7 @@ separable, or undecided).`,
 	return cmd
 }
 
-func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader, stdout, _ io.Writer) error {
+func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
 	format, err := reportFormat(opts.format)
 	if err != nil {
 		return err
@@ -90,7 +90,7 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 	if opts.require != "" && opts.require != "separable" {
 		return usagef(`--require %q: the only requirement is "separable"`, opts.require)
 	}
-	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin)
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin, stderr)
 	if err != nil {
 		return err
 	}

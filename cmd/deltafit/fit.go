@@ -147,7 +147,7 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 	if opts.folds == 1 || opts.folds < 0 {
 		return usagef("--folds %d: give 0 for no cross-validation, or at least 2", opts.folds)
 	}
-	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin)
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, path, stdin, stderr)
 	if err != nil {
 		return err
 	}
@@ -186,7 +186,7 @@ func runFit(_ context.Context, opts fitOptions, path string, stdin io.Reader, st
 
 // loadDataset checks the encoding and training flags, then reads the data
 // and picks its target, returning the sha256 of the bytes read.
-func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reader) (evaluate.Learner, *ingest.Dataset, string, error) {
+func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reader, stderr io.Writer) (evaluate.Learner, *ingest.Dataset, string, error) {
 	learner, err := learn.learner()
 	if err != nil {
 		return learner, nil, "", err
@@ -195,7 +195,7 @@ func loadDataset(input inputFlags, learn learnFlags, path string, stdin io.Reade
 	if err != nil {
 		return learner, nil, "", err
 	}
-	table, sha, err := readTable(path, stdin, readOpts)
+	table, sha, err := readTable(path, stdin, stderr, readOpts)
 	if err != nil {
 		return learner, nil, "", err
 	}
