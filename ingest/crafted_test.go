@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/binary"
 	"flag"
+	"fmt"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -14,6 +15,9 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
+	"github.com/apache/arrow-go/v18/parquet/compress"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
 var updateBad = flag.Bool("update-bad", false, "rewrite the crafted Arrow files of testdata/bad from their recipes")
@@ -293,5 +297,113 @@ func TestCraftedArrowFiles(t *testing.T) {
 				t.Errorf("the read allocated %d MiB", grew>>20)
 			}
 		})
+	}
+}
+
+// fuzzSeed is one committed seed of FuzzReadArrow or FuzzReadParquet.
+type fuzzSeed struct {
+	target, name string
+	data         []byte
+	batchRows    uint8
+}
+
+// fuzzSeeds are the seeds of the Arrow and Parquet fuzz targets:
+// well-formed inputs in every layout the readers meet (file and stream,
+// uncompressed, LZ4 and Zstandard buffers, a dictionary column; Parquet
+// with each codec, dictionary pages and two row groups), and the crafted
+// hostile Arrow inputs, so that mutations start next to every check.
+func fuzzSeeds(t testing.TB) []fuzzSeed {
+	var seeds []fuzzSeed
+	for _, file := range []bool{false, true} {
+		for codec, opt := range map[string][]ipc.Option{"plain": nil, "lz4": {ipc.WithLZ4()}, "zstd": {ipc.WithZstd()}} {
+			layout := map[bool]string{false: "stream", true: "file"}[file]
+			seeds = append(seeds, fuzzSeed{"FuzzReadArrow", layout + "_" + codec, encodeCraft(t, file, arrow.BinaryTypes.String, opt...), 3})
+		}
+	}
+	seeds = append(seeds, fuzzSeed{"FuzzReadArrow", "stream_dictionary", encodeDictionary(t), 2})
+	for _, c := range craftedCases {
+		seeds = append(seeds, fuzzSeed{"FuzzReadArrow", "bad_" + strings.TrimSuffix(c.file, filepath.Ext(c.file)), c.recipe(t), 0})
+	}
+	for _, codec := range []compress.Compression{compress.Codecs.Uncompressed, compress.Codecs.Snappy, compress.Codecs.Gzip, compress.Codecs.Zstd, compress.Codecs.Lz4Raw} {
+		for _, dictionary := range []bool{false, true} {
+			name := fmt.Sprintf("%s_dictionary_%v", strings.ToLower(codec.String()), dictionary)
+			seeds = append(seeds, fuzzSeed{"FuzzReadParquet", name, encodeParquet(t, codec, dictionary), 1})
+		}
+	}
+	return seeds
+}
+
+// encodeDictionary writes a stream whose text column is dictionary-encoded,
+// so that it holds a dictionary batch.
+func encodeDictionary(t testing.TB) []byte {
+	mem := memory.DefaultAllocator
+	db := array.NewDictionaryBuilder(mem, &arrow.DictionaryType{IndexType: arrow.PrimitiveTypes.Int8, ValueType: arrow.BinaryTypes.String}).(*array.BinaryDictionaryBuilder)
+	defer db.Release()
+	for _, s := range []string{"setosa", "versicolor", "setosa", "versicolor"} {
+		if err := db.AppendString(s); err != nil {
+			t.Fatal(err)
+		}
+	}
+	species := db.NewArray()
+	defer species.Release()
+	rec := craftRecord(mem, arrow.BinaryTypes.String)
+	defer rec.Release()
+	schema := arrow.NewSchema([]arrow.Field{rec.Schema().Field(0), {Name: "species", Type: species.DataType(), Nullable: true}}, nil)
+	out := array.NewRecordBatch(schema, []arrow.Array{rec.Column(0), species}, 4)
+	defer out.Release()
+	var buf bytes.Buffer
+	w := ipc.NewWriter(&buf, ipc.WithSchema(schema))
+	if err := w.Write(out); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	return buf.Bytes()
+}
+
+// encodeParquet writes craftRecord as Parquet in two row groups.
+func encodeParquet(t testing.TB, codec compress.Compression, dictionary bool) []byte {
+	rec := craftRecord(memory.DefaultAllocator, arrow.BinaryTypes.String)
+	defer rec.Release()
+	var buf bytes.Buffer
+	props := parquet.NewWriterProperties(parquet.WithCompression(codec), parquet.WithDictionaryDefault(dictionary))
+	w, err := pqarrow.NewFileWriter(rec.Schema(), &buf, props, pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema()))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, rows := range [][2]int64{{0, 2}, {2, 4}} {
+		part := rec.NewSlice(rows[0], rows[1])
+		err := w.Write(part)
+		part.Release()
+		if err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	return buf.Bytes()
+}
+
+// TestFuzzSeedsCommitted rebuilds the seeds of FuzzReadArrow and
+// FuzzReadParquet (with -update-bad, writes them to testdata/fuzz) and
+// checks that the committed corpus holds them.
+func TestFuzzSeedsCommitted(t *testing.T) {
+	for _, s := range fuzzSeeds(t) {
+		path := filepath.Join("testdata", "fuzz", s.target, s.name)
+		want := fmt.Sprintf("go test fuzz v1\n[]byte(%q)\nbyte(%q)\n", s.data, s.batchRows)
+		if *updateBad {
+			if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
+				t.Fatal(err)
+			}
+			if err := os.WriteFile(path, []byte(want), 0o644); err != nil {
+				t.Fatal(err)
+			}
+		}
+		got, err := os.ReadFile(path)
+		if err != nil || string(got) != want {
+			t.Errorf("%s is missing or differs from its recipe (run go test ./ingest -run TestFuzzSeedsCommitted -update-bad): %v", path, err)
+		}
 	}
 }

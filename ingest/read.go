@@ -145,12 +145,12 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordRe
 	if err != nil {
 		var de *DataError
 		if !errors.As(err, &de) {
-			err = &DataError{Err: err}
+			de = &DataError{Err: err}
 		}
-		if de == nil || de.File == "" {
-			err.(*DataError).File = name
+		if de.File == "" {
+			de.File = name
 		}
-		return nil, err
+		return nil, de
 	}
 	return &guardedReader{RecordReader: rr}, nil
 }
