@@ -253,14 +253,64 @@ var craftedCases = []craftedCase{
 	},
 }
 
+// parquetCraftCase is a Parquet file of 2^18 zeros in one Zstandard data
+// page (about 2 MiB decompressed, so its size takes a 4-byte varint) whose
+// page header then claims 120 MiB decompressed.
+var parquetCraftCase = craftedCase{
+	file: "parquet_page_120mib.parquet",
+	recipe: func(t testing.TB) []byte {
+		xb := array.NewFloat64Builder(memory.DefaultAllocator)
+		defer xb.Release()
+		xb.AppendValues(make([]float64, 1<<18), nil)
+		x := xb.NewArray()
+		defer x.Release()
+		schema := arrow.NewSchema([]arrow.Field{{Name: "x", Type: arrow.PrimitiveTypes.Float64}}, nil)
+		rec := array.NewRecordBatch(schema, []arrow.Array{x}, 1<<18)
+		defer rec.Release()
+		var buf bytes.Buffer
+		props := parquet.NewWriterProperties(parquet.WithCompression(compress.Codecs.Zstd), parquet.WithDictionaryDefault(false),
+			parquet.WithDataPageSize(8<<20), parquet.WithStats(false))
+		w, err := pqarrow.NewFileWriter(schema, &buf, props, pqarrow.DefaultWriterProps())
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := w.Write(rec); err != nil {
+			t.Fatal(err)
+		}
+		if err := w.Close(); err != nil {
+			t.Fatal(err)
+		}
+		data := buf.Bytes()
+		// The first page header follows "PAR1": field 1 (type, 0x15 and
+		// a varint), then field 2 (uncompressed_page_size, 0x15 and a
+		// zigzag varint); Thrift compact protocol.
+		pos := 4
+		if data[pos] != 0x15 {
+			t.Fatalf("no page header at byte %d", pos)
+		}
+		for pos += 2; data[pos-1]&0x80 != 0; pos++ {
+		}
+		if data[pos] != 0x15 {
+			t.Fatalf("no uncompressed_page_size at byte %d", pos)
+		}
+		varint := binary.AppendUvarint(nil, 2*(120<<20)) // zigzag
+		if _, n := binary.Uvarint(data[pos+1:]); n != len(varint) {
+			t.Fatalf("the page size takes %d bytes, not %d", n, len(varint))
+		}
+		copy(data[pos+1:], varint)
+		return data
+	},
+	want: "exceeds configured limit 67108864",
+}
+
 func badPath(name string) string { return filepath.Join("..", "testdata", "bad", name) }
 
-// TestCraftedArrowFiles rebuilds each crafted input of testdata/bad from
+// TestCraftedFiles rebuilds each crafted input of testdata/bad from
 // its recipe (with -update-bad, writes it) and reads it: the read must
 // fail with the expected message, with no Go runtime text, every Arrow
 // byte released and little memory allocated.
-func TestCraftedArrowFiles(t *testing.T) {
-	for _, c := range craftedCases {
+func TestCraftedFiles(t *testing.T) {
+	for _, c := range append(craftedCases, parquetCraftCase) {
 		t.Run(c.file, func(t *testing.T) {
 			data := c.recipe(t)
 			if *updateBad {
@@ -270,7 +320,7 @@ func TestCraftedArrowFiles(t *testing.T) {
 			}
 			committed, err := os.ReadFile(badPath(c.file))
 			if err != nil {
-				t.Fatalf("%v (run go test ./ingest -run TestCraftedArrowFiles -update-bad)", err)
+				t.Fatalf("%v (run go test ./ingest -run TestCraftedFiles -update-bad)", err)
 			}
 			if !bytes.Equal(committed, data) {
 				t.Fatalf("testdata/bad/%s differs from its recipe (run with -update-bad)", c.file)
@@ -311,7 +361,7 @@ type fuzzSeed struct {
 // well-formed inputs in every layout the readers meet (file and stream,
 // uncompressed, LZ4 and Zstandard buffers, a dictionary column; Parquet
 // with each codec, dictionary pages and two row groups), and the crafted
-// hostile Arrow inputs, so that mutations start next to every check.
+// hostile inputs, so that mutations start next to every check.
 func fuzzSeeds(t testing.TB) []fuzzSeed {
 	var seeds []fuzzSeed
 	for _, file := range []bool{false, true} {
@@ -330,6 +380,7 @@ func fuzzSeeds(t testing.TB) []fuzzSeed {
 			seeds = append(seeds, fuzzSeed{"FuzzReadParquet", name, encodeParquet(t, codec, dictionary), 1})
 		}
 	}
+	seeds = append(seeds, fuzzSeed{"FuzzReadParquet", "bad_parquet_page_120mib", parquetCraftCase.recipe(t), 0})
 	return seeds
 }
 
