@@ -4,11 +4,14 @@
 // It is the last stage of the pipeline ingest → fit → evaluate → export.
 //
 // Invariants that always hold:
-//   - Files are written atomically: to a temporary file in the same
+//   - Regular files are written atomically: to a temporary file in the same
 //     directory, synced, then renamed. A failed run leaves any previous file
-//     as it was and no partial file behind. A writer killed outright leaves
+//     as it was and no partial file behind; SIGINT and SIGTERM remove the
+//     temporary file (CleanUpOnSignal). A writer killed outright leaves
 //     its temporary file (.NAME.tmp-PID-RANDOM); the next successful write
-//     of NAME removes those of processes that no longer run.
+//     of NAME removes those of processes that no longer run. Devices,
+//     FIFOs, sockets and /dev/stdout-like paths are written through, never
+//     replaced. New files follow the umask; existing ones keep their mode.
 //   - Predict never returns a NaN or infinite score: such a row is an error.
 //   - The same model, options and seed give the same bytes: JSON keys are in
 //     a fixed order and numbers are printed in their shortest exact form.

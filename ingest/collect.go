@@ -8,6 +8,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 
 	"deltafit/ingest/tabular"
@@ -31,9 +32,11 @@ func ReadTable(name string, r io.Reader, opts ReadOptions) (*tabular.Table, erro
 // as numbers are numeric; all true/false are boolean; the rest categorical.
 // A column that is mostly numbers with a stray word is an error naming the
 // cell, not a silent switch to categorical.
-func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *tabular.Table, err error) {
-	defer recoverMalformed(name, &err)
+func Collect(name string, rr array.RecordReader, opts ReadOptions) (*tabular.Table, error) {
 	schema := rr.Schema()
+	if schema.NumFields() > MaxColumns {
+		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("the table has %d columns, over the cap of %d (MaxColumns)", schema.NumFields(), MaxColumns)}
+	}
 	builders := make([]*columnBuilder, schema.NumFields())
 	seen := make(map[string]int, len(builders))
 	for i, f := range schema.Fields() {
@@ -44,6 +47,10 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *tabular.T
 			// A model file stores names as JSON, which would replace the
 			// bad bytes, and the name would no longer match this column.
 			return nil, &tabular.DataError{File: name, Line: 1, Column: i + 1, Err: errors.New("the column name is not valid UTF-8 text; re-save the file as UTF-8")}
+		}
+		if invisible(f.Name) {
+			return nil, &tabular.DataError{File: name, Line: 1, Column: i + 1,
+				Err: fmt.Errorf("the column name %s is only blank or invisible characters; give the column a name that can be read and typed", quoteName(f.Name))}
 		}
 		if j, dup := seen[f.Name]; dup {
 			return nil, &tabular.DataError{File: name, Line: 1, Column: i + 1, Name: f.Name,
@@ -69,7 +76,11 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *tabular.T
 		rows += int(rec.NumRows())
 	}
 	if err := rr.Err(); err != nil {
-		return nil, readError(name, rows, err)
+		de := readError(name, rows, err)
+		if de.Column > 0 && de.Column <= len(builders) && de.Name == "" {
+			de.Name = builders[de.Column-1].name
+		}
+		return nil, de
 	}
 	if rows == 0 {
 		return nil, &tabular.DataError{File: name, Err: ErrNoRows}
@@ -87,6 +98,10 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *tabular.T
 			err.File = name
 			return nil, err
 		}
+		if w := b.underflowWarning(); w != nil && opts.Warn != nil {
+			w.File = name
+			opts.Warn(w)
+		}
 		t.Columns[i] = col
 	}
 	return t, nil
@@ -94,6 +109,12 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (_ *tabular.T
 
 // readError places a reader's error at the row that follows the last one read.
 func readError(name string, rows int, err error) *tabular.DataError {
+	var capped *csvCapError
+	if errors.As(err, &capped) {
+		de := capped.dataError()
+		de.File = name
+		return de
+	}
 	de := &tabular.DataError{File: name, Row: rows + 1, Err: err}
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
@@ -124,6 +145,9 @@ type columnBuilder struct {
 	numbers []float64
 	missing []bool
 	any     bool // a cell has been appended, fixing the storage type
+
+	underflows     int // nonzero numbers read as 0
+	firstUnderflow int // 1-based row of the first
 }
 
 func (b *columnBuilder) fail(row int, err error) *tabular.DataError {
@@ -144,6 +168,9 @@ func (b *columnBuilder) append(arr arrow.Array, rowBase int) *tabular.DataError 
 	_, isBool := arr.(*array.Boolean)
 	if !isText && !isNumber {
 		return b.fail(0, fmt.Errorf("%w: Arrow type %s; convert the column to numbers, text or booleans", ErrUnsupported, arr.DataType()))
+	}
+	if err := checkLayout(arr); err != nil {
+		return b.fail(0, err)
 	}
 	if err := b.setStorage(isNumber && !isBool, isBool); err != nil {
 		return err
@@ -169,6 +196,72 @@ func (b *columnBuilder) append(arr arrow.Array, rowBase int) *tabular.DataError 
 			}
 		}
 		b.numbers = append(b.numbers, v)
+	}
+	return nil
+}
+
+// checkLayout checks that arr's buffers hold what its length and offsets
+// say, so that reading its cells cannot run past them: arrow-go builds
+// arrays from the lengths in a file and compares them with the buffers
+// only for some types. Fixed-width values it does check (it slices them
+// when it builds the array); validity bitmaps, booleans, string offsets and
+// dictionary indices it does not.
+func checkLayout(arr arrow.Array) error {
+	data := arr.Data()
+	end := data.Offset() + data.Len()
+	bitmapBytes := (end + 7) / 8
+	buffers := data.Buffers()
+	if len(buffers) > 0 && buffers[0] != nil && buffers[0].Len() > 0 && buffers[0].Len() < bitmapBytes {
+		return fmt.Errorf("%w: its null bitmap holds %d bytes for %d rows", errLayout, buffers[0].Len(), data.Len())
+	}
+	switch a := arr.(type) {
+	case *array.Boolean:
+		if data.Len() > 0 && (len(buffers) < 2 || buffers[1] == nil || buffers[1].Len() < bitmapBytes) {
+			return fmt.Errorf("%w: its values hold fewer bits than its %d rows", errLayout, data.Len())
+		}
+	case *array.String:
+		if err := a.Validate(); err != nil {
+			return errLayout
+		}
+		return checkOffsets(a.ValueOffsets())
+	case *array.LargeString:
+		if err := a.Validate(); err != nil {
+			return errLayout
+		}
+		return checkOffsets(a.ValueOffsets())
+	case *array.Dictionary:
+		if err := checkLayout(a.Indices()); err != nil {
+			return err
+		}
+		var dict arrow.Array
+		if err := decode(func() error { dict = a.Dictionary(); return nil }); err != nil {
+			return fmt.Errorf("%w: its dictionary is malformed", errLayout)
+		}
+		if err := checkLayout(dict); err != nil {
+			return err
+		}
+		for i := range a.Len() {
+			if k := a.GetValueIndex(i); !a.IsNull(i) && (k < 0 || k >= dict.Len()) {
+				return fmt.Errorf("%w: row %d points at dictionary entry %d of %d", errLayout, i+1, k, dict.Len())
+			}
+		}
+	}
+	return nil
+}
+
+// errLayout is wrapped by every failure of checkLayout.
+var errLayout = fmt.Errorf("%w: the column's data does not fit its own layout; is the file truncated or corrupt?", ErrUnsupported)
+
+// checkOffsets checks that string offsets never decrease; Validate has
+// checked the first and last against the data.
+func checkOffsets[T int32 | int64](offsets []T) error {
+	if len(offsets) > 0 && offsets[0] < 0 {
+		return errLayout
+	}
+	for i := 1; i < len(offsets); i++ {
+		if offsets[i] < offsets[i-1] {
+			return errLayout
+		}
 	}
 	return nil
 }
@@ -286,7 +379,7 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 			}
 			t, ok := parseBool(v)
 			if !ok {
-				return nil, b.fail(i+1, fmt.Errorf("%q is not true or false, in a column %s boolean", v, reason))
+				return nil, b.fail(i+1, fmt.Errorf("%s is not true or false, in a column %s boolean", quoteCell(v), reason))
 			}
 			if t {
 				col.Numbers[i] = 1
@@ -310,9 +403,37 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		case err != nil:
 			return nil, b.fail(i+1, err)
 		}
+		if x == 0 && underflows(v) {
+			if b.underflows == 0 {
+				b.firstUnderflow = i + 1
+			}
+			b.underflows++
+		}
 		col.Numbers[i] = x
 	}
 	return col, nil
+}
+
+// underflowWarning reports the cells of a numeric column that were
+// written as a nonzero number too small for a float64 and so read as 0,
+// or nil if there were none.
+func (b *columnBuilder) underflowWarning() *tabular.DataError {
+	if b.underflows == 0 {
+		return nil
+	}
+	cells := "1 cell"
+	if b.underflows > 1 {
+		cells = fmt.Sprintf("%d cells", b.underflows)
+	}
+	return b.fail(b.firstUnderflow, fmt.Errorf("%s (first %s) hold a nonzero number smaller than a 64-bit float can store (about 4.9e-324), read as 0",
+		cells, quoteCell(b.text[b.firstUnderflow-1])))
+}
+
+// underflows reports whether v, which read as 0, writes a nonzero number:
+// a nonzero digit before its exponent.
+func underflows(v string) bool {
+	mantissa, _, _ := strings.Cut(strings.ToLower(strings.TrimSpace(v)), "e")
+	return strings.ContainsAny(mantissa, "123456789")
 }
 
 // inferKind looks at every present value. A column that is mostly numbers
@@ -373,13 +494,52 @@ func parseNumber(v string) (float64, error) {
 	x, err := readFloat(v)
 	switch {
 	case errors.Is(err, strconv.ErrRange):
-		return 0, fmt.Errorf("%q is outside the range of a 64-bit float", v)
+		return 0, fmt.Errorf("%s is outside the range of a 64-bit float", quoteCell(v))
 	case err != nil:
-		return 0, fmt.Errorf("%q %w", v, errNotNumber)
+		return 0, fmt.Errorf("%s %w", quoteCell(v), errNotNumber)
 	case math.IsNaN(x) || math.IsInf(x, 0):
-		return 0, fmt.Errorf("%q is not a finite number; leave the cell empty or write NA if it is missing", v)
+		return 0, fmt.Errorf("%s is not a finite number; leave the cell empty or write NA if it is missing", quoteCell(v))
 	}
 	return x, nil
+}
+
+// maxEchoRunes is how much of a cell an error message repeats.
+const maxEchoRunes = 40
+
+// quoteCell quotes a cell for a message, cut after maxEchoRunes characters
+// with its length in bytes, so that an error on a megabyte cell stays one
+// readable line.
+func quoteCell(v string) string {
+	n := 0
+	for i := range v {
+		if n == maxEchoRunes {
+			return fmt.Sprintf("%s… (%d bytes)", strconv.Quote(v[:i]), len(v))
+		}
+		n++
+	}
+	return strconv.Quote(v)
+}
+
+// quoteName quotes a column name with every character that is not plain
+// ASCII escaped, so that an invisible one shows.
+func quoteName(name string) string { return strconv.QuoteToASCII(name) }
+
+// invisible reports whether a name is made only of white space, control
+// characters and default-ignorable characters (Unicode's
+// Default_Ignorable_Code_Point: format characters such as U+200B ZERO
+// WIDTH SPACE, variation selectors and fillers such as U+3164): a name
+// nobody can read or type.
+func invisible(name string) bool {
+	for _, r := range name {
+		switch {
+		case unicode.IsSpace(r), unicode.IsControl(r),
+			unicode.In(r, unicode.Cf, unicode.Zs, unicode.Other_Default_Ignorable_Code_Point, unicode.Variation_Selector),
+			r == '\u2800': // BRAILLE PATTERN BLANK, a common filler
+		default:
+			return false
+		}
+	}
+	return true
 }
 
 func parseBool(v string) (bool, bool) {

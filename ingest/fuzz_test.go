@@ -6,6 +6,7 @@ import (
 	"errors"
 	"math"
 	"strings"
+	"sync/atomic"
 	"testing"
 	"unicode/utf8"
 
@@ -33,15 +34,24 @@ var fuzzFormats = []ingest.Format{ingest.FormatAuto, ingest.FormatCSV, ingest.Fo
 // with finite numbers and valid UTF-8 text.
 func fuzzTable(t *testing.T, data []byte, mode uint8) *tabular.Table {
 	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
-	opts := ingest.ReadOptions{Format: fuzzFormats[mode%4], BatchRows: 1 + int(mode>>2)%5, Allocator: mem}
-	// arrow-go v18.8.0's IPC file reader does not release a message whose
-	// record batch fails to load (ipc.fileBlock.NewMessage); the Go
-	// allocator reclaims it, so only the accounting is off. Leaks are
-	// checked for every other reader.
-	arrowFile := bytes.HasPrefix(data, []byte("ARROW1")) && (opts.Format == ingest.FormatArrow || opts.Format == ingest.FormatAuto)
-	if !arrowFile {
-		defer mem.AssertSize(t, 0)
+	peak := &peakAllocator{Allocator: mem}
+	opts := ingest.ReadOptions{Format: fuzzFormats[mode%4], BatchRows: 1 + int(mode>>2)%5, Allocator: peak}
+	sniffedArrow := bytes.HasPrefix(data, []byte("ARROW1")) || bytes.HasPrefix(data, []byte{0xff, 0xff, 0xff, 0xff})
+	if opts.Format == ingest.FormatArrow || opts.Format == ingest.FormatAuto && sniffedArrow {
+		// Arrow memory is bounded by the input: no buffer decompresses to
+		// more than 32768 times its bytes (a Zstandard RLE block, 4 bytes
+		// for 128 KiB, RFC 8878 §3.1.1.2), plus room for the batch.
+		defer func() {
+			if limit := 32768*int64(len(data)) + 16<<20; peak.peak.Load() > limit {
+				t.Fatalf("%d bytes of input made the reader hold %d bytes of Arrow memory", len(data), peak.peak.Load())
+			}
+		}()
 	}
+	// Every reader releases all it allocated, the Arrow file reader too:
+	// it reads messages as slices of the file (ipc.NewMappedFileReader),
+	// so arrow-go's file reader, which does not release a message whose
+	// batch fails to load, allocates none.
+	defer mem.AssertSize(t, 0)
 	table, err := ingest.ReadTable("fuzz", bytes.NewReader(data), opts)
 	if err != nil {
 		checkError(t, err)
@@ -178,4 +188,55 @@ func feature(p *encode.Plan, i int) *encode.Feature {
 		i -= w
 	}
 	return nil
+}
+
+// peakAllocator records the most Arrow memory outstanding at once.
+type peakAllocator struct {
+	memory.Allocator
+	now, peak atomic.Int64
+}
+
+func (a *peakAllocator) add(n int64) {
+	now := a.now.Add(n)
+	for {
+		peak := a.peak.Load()
+		if now <= peak || a.peak.CompareAndSwap(peak, now) {
+			return
+		}
+	}
+}
+
+func (a *peakAllocator) Allocate(size int) []byte {
+	a.add(int64(size))
+	return a.Allocator.Allocate(size)
+}
+
+func (a *peakAllocator) Reallocate(size int, b []byte) []byte {
+	a.add(int64(size - len(b)))
+	return a.Allocator.Reallocate(size, b)
+}
+
+func (a *peakAllocator) Free(b []byte) {
+	a.add(-int64(len(b)))
+	a.Allocator.Free(b)
+}
+
+// FuzzReadArrow feeds Arrow IPC files and streams, compressed and not, to
+// the Arrow reader, with the invariants of fuzzTable and Arrow memory
+// bounded by the input. The seeds in testdata/fuzz/FuzzReadArrow are
+// well-formed inputs in each layout and the crafted inputs of testdata/bad
+// (TestFuzzSeedsCommitted makes them).
+func FuzzReadArrow(f *testing.F) {
+	f.Fuzz(func(t *testing.T, data []byte, batch uint8) {
+		fuzzTable(t, data, 2|batch<<2) // fuzzFormats[2] is Arrow
+	})
+}
+
+// FuzzReadParquet feeds Parquet files to the Parquet reader, with the
+// invariants of fuzzTable. The seeds in testdata/fuzz/FuzzReadParquet are
+// well-formed files with each codec, with and without dictionary pages.
+func FuzzReadParquet(f *testing.F) {
+	f.Fuzz(func(t *testing.T, data []byte, batch uint8) {
+		fuzzTable(t, data, 3|batch<<2) // fuzzFormats[3] is Parquet
+	})
 }

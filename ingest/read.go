@@ -8,6 +8,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"runtime"
+	"strings"
+	"sync/atomic"
+	"unicode/utf8"
 
 	"deltafit/ingest/tabular"
 
@@ -16,6 +20,7 @@ import (
 	arrowcsv "github.com/apache/arrow-go/v18/arrow/csv"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
@@ -58,7 +63,12 @@ type ReadOptions struct {
 	// BatchRows is the number of rows per record batch; 0 means 4096.
 	BatchRows int
 	// Allocator for Arrow memory; nil means memory.DefaultAllocator.
+	// NewRecordReader caps what it holds at MaxReaderBytes.
 	Allocator memory.Allocator
+	// Warn, if not nil, is called by Collect with each warning: data read
+	// as something other than it says (a nonzero number too small for a
+	// float64, read as 0), one per column with a count and the first row.
+	Warn func(*tabular.DataError)
 }
 
 func (o ReadOptions) batchRows() int {
@@ -80,14 +90,39 @@ const MaxHeaderBytes = 1 << 20
 
 // MaxCellBytes caps the size of one text cell. A longer cell is an error
 // naming it: it is far more often an open quote that swallowed the rest of
-// the file than a value worth a category of its own.
+// the file than a value worth a category of its own. CSV cells are checked
+// as they are read, before anything holds them whole.
 const MaxCellBytes = 1 << 20
 
-// MaxArrowBodyBytes caps one record batch body of an Arrow IPC stream. The
-// body is allocated from its declared length before it is read, so without
-// a cap a few bytes could claim terabytes; write larger data in smaller
+// MaxRecordBytes caps one CSV record (a row, quoted line breaks and all),
+// checked as it is read: the CSV parser holds a whole record in memory, in
+// buffers that grow by a quarter at a time, so a record costs about ten
+// times its size in allocations.
+const MaxRecordBytes = 8 << 20
+
+// MaxArrowBodyBytes caps one record batch of an Arrow IPC input: its body
+// as stored, and, when compressed, the decompressed lengths its buffers
+// declare. arrow-go allocates a compressed buffer from its declared length
+// before it decompresses, so each declared length is also checked against
+// what the buffer's frames can produce; write larger data in smaller
 // batches.
 const MaxArrowBodyBytes = 1 << 30
+
+// MaxColumns caps the columns of a table. An Arrow schema counts every
+// field, nested ones too (a field list may name one field a million times
+// in 4 MB, and arrow-go builds each); a CSV header or Parquet schema counts
+// its columns.
+const MaxColumns = 1 << 17
+
+// MaxReaderBytes caps the Arrow memory a reader holds at once (decoded
+// batches, dictionaries, decompression and page buffers). arrow-go
+// allocates on the reader's behalf from lengths in the file; an allocation
+// past the cap ends the read with an error instead.
+const MaxReaderBytes = 2 << 30
+
+// MaxParquetPageBytes caps a Parquet page, compressed or not, and a
+// compressed page may not claim more bytes than the file holds.
+const MaxParquetPageBytes = 64 << 20
 
 // NullValues are the cell texts read as missing.
 var NullValues = []string{"", "NA"}
@@ -106,8 +141,23 @@ var (
 // Arrow IPC files and Parquet keep their index at the end, so unless r is an
 // io.ReaderAt and io.Seeker they are buffered in memory first; CSV and Arrow
 // IPC streams are read as they arrive.
-func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.RecordReader, err error) {
-	defer recoverMalformed(name, &err)
+func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
+	opts.Allocator = newCappedAllocator(opts.allocator(), MaxReaderBytes)
+	rr, err := newRecordReader(name, r, opts)
+	if err != nil {
+		var de *tabular.DataError
+		if !errors.As(err, &de) {
+			de = &tabular.DataError{Err: err}
+		}
+		if de.File == "" {
+			de.File = name
+		}
+		return nil, de
+	}
+	return &guardedReader{RecordReader: rr}, nil
+}
+
+func newRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
 	br := bufio.NewReaderSize(r, 64<<10)
 	head, err := br.Peek(8)
 	if len(head) == 0 {
@@ -132,42 +182,88 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (_ array.Record
 			if err := checkArrowFile(data); err != nil {
 				return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
 			}
-			return newArrowFileReader(name, data, opts)
+			return newArrowFileReader(data, opts)
 		}
-		stream, err := checkArrowStream(br)
-		if err != nil {
-			return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
-		}
-		// ipc.NewReader ignores the metadata size limit, so a stream that
-		// does not start with a schema message (say, a CSV read with
-		// Format "arrow") would make it allocate whatever its first four
-		// bytes claim. The message reader applies arrow's 64 MiB limit;
-		// record bodies, allocated before they are read, are capped at
-		// MaxArrowBodyBytes.
-		mr := ipc.NewMessageReader(stream, ipc.WithAllocator(opts.allocator()), ipc.WithBodySizeLimit(MaxArrowBodyBytes))
-		rdr, err := ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
-		if err != nil {
-			return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC stream: %v", err)}
-		}
-		return rdr, nil
+		return newArrowStreamReader(br, opts)
 	case FormatParquet:
 		data, err := io.ReadAll(br)
 		if err != nil {
 			return nil, &tabular.DataError{File: name, Err: err}
 		}
-		return newParquetReader(name, data, opts)
+		return newParquetReader(data, opts)
 	}
 	return nil, &tabular.DataError{File: name, Err: fmt.Errorf("%w: format %q", ErrUnsupported, format)}
 }
 
-// recoverMalformed turns a panic inside the Arrow and Parquet decoders,
-// which some malformed files cause (flatbuffers reads past a short
-// buffer), into an error naming the file. Deferred by the functions that
-// call into them with untrusted bytes.
-func recoverMalformed(name string, err *error) {
-	if p := recover(); p != nil {
-		*err = &tabular.DataError{File: name, Err: fmt.Errorf("%w: the file is malformed (%v); is it truncated or of another format?", ErrUnsupported, p)}
+// decode calls fn, which hands untrusted bytes to arrow-go's decoders, and
+// returns its error, or the decoders' panic as an error. The decoders
+// panic on some malformed input (flatbuffers reading past a short buffer,
+// a failed decompression), always with an error or a string, and
+// cappedAllocator panics with *AllocationCapError; anything else is not
+// theirs and panics on, as a bug should.
+func decode(fn func() error) (err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			switch v := p.(type) {
+			case error:
+				err = v
+			case string:
+				err = errors.New(v)
+			default:
+				panic(fmt.Sprintf("ingest: unexpected panic in a decoder: %v", p))
+			}
+		}
+		err = decoderError(err)
+	}()
+	return fn()
+}
+
+// errMalformed replaces a decoder's error that carries Go runtime text
+// ("slice bounds out of range"), which says nothing to the user.
+var errMalformed = fmt.Errorf("%w: the file is malformed (its data does not fit its own layout); is it truncated or of another format?", ErrUnsupported)
+
+// decoderError makes an error that came out of arrow-go fit for the user:
+// a refused allocation as itself, Go runtime errors as errMalformed.
+func decoderError(err error) error {
+	if err == nil {
+		return nil
 	}
+	var capped *AllocationCapError
+	if errors.As(err, &capped) {
+		return capped
+	}
+	var rt runtime.Error
+	if errors.As(err, &rt) || strings.Contains(err.Error(), "runtime error") {
+		return errMalformed
+	}
+	return err
+}
+
+// guardedReader runs a reader's Next under decode, so a decoder's panic
+// ends the read with an error, and cleans the reader's errors with
+// decoderError.
+type guardedReader struct {
+	array.RecordReader
+	err error
+}
+
+func (g *guardedReader) Next() bool {
+	if g.err != nil {
+		return false
+	}
+	next := false
+	g.err = decode(func() error {
+		next = g.RecordReader.Next()
+		return nil
+	})
+	return next && g.err == nil
+}
+
+func (g *guardedReader) Err() error {
+	if g.err != nil {
+		return g.err
+	}
+	return decoderError(g.RecordReader.Err())
 }
 
 func sniff(head []byte) Format {
@@ -190,9 +286,17 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 	if delim == 0 {
 		delim = ','
 	}
+	br = bufio.NewReaderSize(newCSVGuard(br, delim), 64<<10)
 	names, br, err := peekHeader(br, delim)
+	var capped *csvCapError
+	if errors.As(err, &capped) {
+		return nil, capped.dataError()
+	}
 	if err != nil {
 		return nil, &tabular.DataError{File: name, Line: 1, Err: err}
+	}
+	if len(names) > MaxColumns {
+		return nil, &tabular.DataError{File: name, Line: 1, Err: fmt.Errorf("the header has %d columns, over the cap of %d (MaxColumns)", len(names), MaxColumns)}
 	}
 	fields := make([]arrow.Field, len(names))
 	for i := range names {
@@ -201,10 +305,22 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 	rdr := arrowcsv.NewReader(br, arrow.NewSchema(fields, nil),
 		arrowcsv.WithHeader(true),
 		arrowcsv.WithComma(delim),
-		arrowcsv.WithChunk(opts.batchRows()),
+		arrowcsv.WithChunk(csvBatchRows(opts.batchRows(), len(names))),
 		arrowcsv.WithNullReader(true, NullValues...),
 		arrowcsv.WithAllocator(opts.allocator()))
 	return rdr, nil
+}
+
+// maxBatchCells bounds the cells of one CSV record batch: the Arrow
+// reader reserves room for a batch's rows in every column before reading
+// them, so a wide table gets fewer rows per batch.
+const maxBatchCells = 1 << 16
+
+// csvBatchRows is the number of rows per batch for a table of the given
+// width: rows, or fewer so that a batch holds at most maxBatchCells cells
+// (at least one row).
+func csvBatchRows(rows, columns int) int {
+	return max(1, min(rows, maxBatchCells/max(columns, 1)))
 }
 
 // peekHeader parses the header record without consuming it, so the Arrow
@@ -247,12 +363,45 @@ func peekHeader(br *bufio.Reader, delim rune) ([]string, *bufio.Reader, error) {
 	}
 }
 
-func newArrowFileReader(name string, data []byte, opts ReadOptions) (array.RecordReader, error) {
-	fr, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(opts.allocator()))
+// newArrowFileReader reads an Arrow IPC file that checkArrowFile passed.
+// Buffers that are not compressed are slices of data, not copies.
+func newArrowFileReader(data []byte, opts ReadOptions) (array.RecordReader, error) {
+	var fr *ipc.FileReader
+	err := decode(func() (err error) {
+		fr, err = ipc.NewMappedFileReader(data, ipc.WithAllocator(opts.allocator()))
+		return err
+	})
 	if err != nil {
-		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
+		return nil, &tabular.DataError{Err: fmt.Errorf("not a readable Arrow IPC file: %v", err)}
+	}
+	if err := checkArrowTypes(fr.Schema()); err != nil {
+		fr.Close()
+		return nil, err
 	}
 	return &arrowFileReader{fr: fr, refs: 1}, nil
+}
+
+// newArrowStreamReader reads an Arrow IPC stream through a
+// checkedMessageReader. ipc.NewReader would allocate whatever a message
+// declares before reading it (and ignores the metadata size limit).
+func newArrowStreamReader(r io.Reader, opts ReadOptions) (array.RecordReader, error) {
+	mr := newCheckedMessageReader(r)
+	var rdr *ipc.Reader
+	err := decode(func() (err error) {
+		rdr, err = ipc.NewReaderFromMessageReader(mr, ipc.WithAllocator(opts.allocator()))
+		return err
+	})
+	if err != nil {
+		if mr.err != nil {
+			err = mr.err // the check's own words, without arrow-go's wrapping
+		}
+		return nil, &tabular.DataError{Err: err}
+	}
+	if err := checkArrowTypes(rdr.Schema()); err != nil {
+		rdr.Release()
+		return nil, err
+	}
+	return rdr, nil
 }
 
 // arrowFileReader adapts ipc.FileReader to array.RecordReader.
@@ -301,20 +450,46 @@ func (r *arrowFileReader) Release() {
 	r.fr.Close()
 }
 
-func newParquetReader(name string, data []byte, opts ReadOptions) (array.RecordReader, error) {
-	pf, err := file.NewParquetReader(bytes.NewReader(data))
+// newParquetReader reads a Parquet file. Page sizes are capped at
+// MaxParquetPageBytes, and a compressed page at the file's size; column
+// chunks are checked against the file's size by arrow-go.
+func newParquetReader(data []byte, opts ReadOptions) (array.RecordReader, error) {
+	props := parquet.NewReaderProperties(opts.allocator())
+	props.MaxCompressedPageSize = min(MaxParquetPageBytes, int64(len(data)))
+	props.MaxUncompressedPageSize = MaxParquetPageBytes
+	var rr pqarrow.RecordReader
+	var pf *file.Reader
+	err := decode(func() (err error) {
+		pf, err = file.NewParquetReader(bytes.NewReader(data), file.WithReadProps(props))
+		if err != nil {
+			return err
+		}
+		if n := pf.MetaData().Schema.NumColumns(); n > MaxColumns {
+			return fmt.Errorf("the table has %d columns, over the cap of %d (MaxColumns)", n, MaxColumns)
+		}
+		fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: int64(opts.batchRows())}, opts.allocator())
+		if err != nil {
+			return err
+		}
+		schema, err := fr.Schema()
+		if err != nil {
+			return err
+		}
+		if err := checkArrowTypes(schema); err != nil {
+			return err
+		}
+		rr, err = fr.GetRecordReader(context.Background(), nil, nil)
+		return err
+	})
 	if err != nil {
-		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
-	}
-	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: int64(opts.batchRows())}, opts.allocator())
-	if err != nil {
-		pf.Close()
-		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
-	}
-	rr, err := fr.GetRecordReader(context.Background(), nil, nil)
-	if err != nil {
-		pf.Close()
-		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("not a readable Parquet file: %v", err)}
+		if pf != nil {
+			pf.Close()
+		}
+		var de *tabular.DataError
+		if errors.As(err, &de) {
+			return nil, de
+		}
+		return nil, &tabular.DataError{Err: fmt.Errorf("not a readable Parquet file: %v", err)}
 	}
 	return &parquetReader{RecordReader: rr, pf: pf}, nil
 }
@@ -328,4 +503,196 @@ type parquetReader struct {
 func (r *parquetReader) Release() {
 	r.RecordReader.Release()
 	r.pf.Close()
+}
+
+// AllocationCapError is the error of a read that needed more Arrow memory
+// than MaxReaderBytes allows.
+type AllocationCapError struct {
+	Size, Outstanding, Cap int64
+}
+
+func (e *AllocationCapError) Error() string {
+	return fmt.Sprintf("reading needs %d more bytes of Arrow memory on top of %d, over the cap of %d (MaxReaderBytes); is a length in the file corrupt?",
+		e.Size, e.Outstanding, e.Cap)
+}
+
+// cappedAllocator passes allocations to another allocator while the bytes
+// outstanding stay within a cap, and panics with *AllocationCapError past
+// it: Allocate cannot return an error, and arrow-go's readers recover
+// their decoders' panics into errors (as decode does).
+type cappedAllocator struct {
+	memory.Allocator
+	cap         int64
+	outstanding atomic.Int64
+}
+
+func newCappedAllocator(mem memory.Allocator, cap int64) *cappedAllocator {
+	if c, ok := mem.(*cappedAllocator); ok && c.cap <= cap {
+		return c
+	}
+	return &cappedAllocator{Allocator: mem, cap: cap}
+}
+
+func (a *cappedAllocator) reserve(size int64) {
+	if now := a.outstanding.Add(size); size > 0 && now > a.cap {
+		a.outstanding.Add(-size)
+		panic(&AllocationCapError{Size: size, Outstanding: now - size, Cap: a.cap})
+	}
+}
+
+func (a *cappedAllocator) Allocate(size int) []byte {
+	a.reserve(int64(size))
+	return a.Allocator.Allocate(size)
+}
+
+func (a *cappedAllocator) Reallocate(size int, b []byte) []byte {
+	a.reserve(int64(size - len(b)))
+	return a.Allocator.Reallocate(size, b)
+}
+
+func (a *cappedAllocator) Free(b []byte) {
+	a.outstanding.Add(-int64(len(b)))
+	a.Allocator.Free(b)
+}
+
+// csvGuard passes CSV text through while following its quoting, so that a
+// cell longer than MaxCellBytes or a record longer than MaxRecordBytes ends
+// the read with a *csvCapError naming its line and column before the CSV
+// parser has buffered it (it holds a whole record, which the Arrow reader
+// then copies). It also turns a carriage return outside quotes into a line
+// feed, dropping the line feed of a CRLF pair: files from old Mac software
+// end lines with a lone CR, which the CSV parser would read as one line.
+type csvGuard struct {
+	r     io.Reader
+	delim []byte // the delimiter's UTF-8 bytes
+	err   error
+
+	matched   int  // bytes of delim matched so far
+	quoted    bool // inside a quoted cell
+	quoteSeen bool // a quote inside a quoted cell: the end, or half of ""
+	cellStart bool // at the start of a cell, where a quote opens one
+	afterCR   bool // the last byte was a CR turned into a line feed
+	cell      int  // bytes of the current cell's value
+	record    int  // bytes of the current record
+	line      int  // 1-based line of the current byte
+	cellLine  int  // line where the current cell began
+	column    int  // 1-based column of the current cell
+}
+
+func newCSVGuard(r io.Reader, delim rune) *csvGuard {
+	return &csvGuard{r: r, delim: utf8.AppendRune(nil, delim), cellStart: true, line: 1, cellLine: 1, column: 1}
+}
+
+// csvCapError is a CSV cell or record over its cap.
+type csvCapError struct {
+	line, column int
+	record       bool // the record, not the cell, is over the cap
+}
+
+func (e *csvCapError) Error() string {
+	if e.record {
+		return fmt.Sprintf("the row holds more than %d bytes, the cap (MaxRecordBytes); is a quote left open?", MaxRecordBytes)
+	}
+	return fmt.Sprintf("the cell holds more than %d bytes, the cap (MaxCellBytes); is a quote left open, or should the column be left out?", MaxCellBytes)
+}
+
+func (e *csvCapError) dataError() *tabular.DataError {
+	de := &tabular.DataError{Line: e.line, Err: e}
+	if !e.record {
+		de.Column = e.column
+	}
+	return de
+}
+
+func (g *csvGuard) Read(p []byte) (int, error) {
+	if g.err != nil {
+		return 0, g.err
+	}
+	n, err := g.r.Read(p)
+	w := 0 // bytes kept; a dropped LF and CR conversions happen in place
+	for i := range n {
+		c := p[i]
+		if g.afterCR {
+			g.afterCR = false
+			if c == '\n' {
+				continue
+			}
+		}
+		if c == '\r' && (!g.quoted || g.quoteSeen) {
+			c, g.afterCR = '\n', true
+		}
+		p[w] = c
+		w++
+		if capErr := g.step(c); capErr != nil {
+			g.err = capErr
+			return w, capErr
+		}
+	}
+	if err != nil {
+		g.err = err
+	}
+	return w, err
+}
+
+// step follows one byte of the text.
+func (g *csvGuard) step(c byte) error {
+	g.record++
+	switch {
+	case g.quoted && !g.quoteSeen:
+		if c == '"' {
+			g.quoteSeen = true
+			return g.check()
+		}
+		if c == '\n' {
+			g.line++
+		}
+		g.cell++
+		return g.check()
+	case g.quoted && c == '"': // "" inside quotes
+		g.quoteSeen = false
+		g.cell++
+		return g.check()
+	case g.quoted: // after the closing quote
+		g.quoted, g.quoteSeen = false, false
+	case g.cellStart && c == '"':
+		g.quoted, g.cellStart = true, false
+		return g.check()
+	}
+	g.cellStart = false
+	if c == '\n' {
+		g.line++
+		g.record, g.column = 0, 0
+		g.endCell()
+		return nil
+	}
+	if c == g.delim[g.matched] {
+		g.matched++
+		if g.matched == len(g.delim) {
+			g.endCell()
+		}
+		return nil
+	}
+	g.matched = 0
+	if c == g.delim[0] {
+		g.matched = 1
+		return nil
+	}
+	g.cell++
+	return g.check()
+}
+
+func (g *csvGuard) endCell() {
+	g.matched, g.cell, g.cellStart = 0, 0, true
+	g.column++
+	g.cellLine = g.line
+}
+
+func (g *csvGuard) check() error {
+	switch {
+	case g.cell > MaxCellBytes:
+		return &csvCapError{line: g.cellLine, column: g.column}
+	case g.record > MaxRecordBytes:
+		return &csvCapError{line: g.cellLine, column: g.column, record: true}
+	}
+	return nil
 }

@@ -30,9 +30,18 @@ type writer struct {
 }
 
 var writers = []writer{
-	{"arrow file", ingest.FormatArrow, writeArrowFile},
-	{"arrow stream", ingest.FormatArrow, writeArrowStream},
+	{"arrow file", ingest.FormatArrow, withOptions(writeArrowFile)},
+	{"arrow stream", ingest.FormatArrow, withOptions(writeArrowStream)},
+	{"arrow file lz4", ingest.FormatArrow, withOptions(writeArrowFile, ipc.WithLZ4())},
+	{"arrow stream zstd", ingest.FormatArrow, withOptions(writeArrowStream, ipc.WithZstd())},
 	{"parquet", ingest.FormatParquet, writeParquet},
+}
+
+// withOptions gives an Arrow writer IPC options, such as a compression codec.
+func withOptions(write func(*testing.T, memory.Allocator, arrow.RecordBatch, int, ...ipc.Option) []byte, opts ...ipc.Option) func(*testing.T, memory.Allocator, arrow.RecordBatch, int) []byte {
+	return func(t *testing.T, mem memory.Allocator, rec arrow.RecordBatch, batchRows int) []byte {
+		return write(t, mem, rec, batchRows, opts...)
+	}
 }
 
 // eachSlice calls fn with consecutive slices of rec of at most n rows.
@@ -48,9 +57,9 @@ func eachSlice(t *testing.T, rec arrow.RecordBatch, n int, fn func(arrow.RecordB
 	}
 }
 
-func writeArrowFile(t *testing.T, mem memory.Allocator, rec arrow.RecordBatch, batchRows int) []byte {
+func writeArrowFile(t *testing.T, mem memory.Allocator, rec arrow.RecordBatch, batchRows int, opts ...ipc.Option) []byte {
 	var buf bytes.Buffer
-	w, err := ipc.NewFileWriter(&buf, ipc.WithSchema(rec.Schema()), ipc.WithAllocator(mem))
+	w, err := ipc.NewFileWriter(&buf, append(opts, ipc.WithSchema(rec.Schema()), ipc.WithAllocator(mem))...)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -61,9 +70,9 @@ func writeArrowFile(t *testing.T, mem memory.Allocator, rec arrow.RecordBatch, b
 	return buf.Bytes()
 }
 
-func writeArrowStream(t *testing.T, mem memory.Allocator, rec arrow.RecordBatch, batchRows int) []byte {
+func writeArrowStream(t *testing.T, mem memory.Allocator, rec arrow.RecordBatch, batchRows int, opts ...ipc.Option) []byte {
 	var buf bytes.Buffer
-	w := ipc.NewWriter(&buf, ipc.WithSchema(rec.Schema()), ipc.WithAllocator(mem))
+	w := ipc.NewWriter(&buf, append(opts, ipc.WithSchema(rec.Schema()), ipc.WithAllocator(mem))...)
 	eachSlice(t, rec, batchRows, w.Write)
 	if err := w.Close(); err != nil {
 		t.Fatal(err)

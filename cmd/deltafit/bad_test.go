@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/binary"
 	"flag"
 	"fmt"
 	"os"
@@ -40,8 +41,45 @@ type badCase struct {
 }
 
 // generatedCases are inputs too large to commit, written into a temporary
-// directory by the test.
+// directory by the test, as NAME.csv unless generatedExt says otherwise.
 var generatedCases = map[string]func() []byte{
+	// MaxColumns: an Arrow schema of 4 MB that lists one field a million
+	// times; arrow-go would build a million fields.
+	"gen_arrow_schema_1m_fields": func() []byte { return arrowStreamRepeatedField(1 << 20) },
+	// MaxCellBytes, checked while reading: a 64 MB cell is refused before
+	// the CSV parser holds it.
+	"gen_cell_64mb": func() []byte {
+		return []byte("x,species\n" + strings.Repeat("a", 64<<20) + ",setosa\nb,versicolor\n")
+	},
+	// MaxRecordBytes: 20 cells just under MaxCellBytes in one row.
+	"gen_record_20mb": func() []byte {
+		var header strings.Builder
+		for i := range 20 {
+			fmt.Fprintf(&header, "c%d,", i)
+		}
+		cell := strings.Repeat("a", 1<<20-1)
+		return []byte(header.String() + "species\n" + strings.Repeat(cell+",", 20) + "setosa\n")
+	},
+	// A stray word of 1 MB in a numeric column: the message shows its
+	// first characters and its length, not the whole cell.
+	"gen_stray_word_1mb": func() []byte {
+		return []byte("x,species\n1,setosa\n2,versicolor\n3,setosa\n" + strings.Repeat("z", 1<<20-1) + ",versicolor\n")
+	},
+	// A wide table: 100,000 columns, 4 rows; read in small batches.
+	"gen_wide_100k_columns": func() []byte {
+		var b strings.Builder
+		for i := range 99_999 {
+			fmt.Fprintf(&b, "c%d,", i)
+		}
+		b.WriteString("species\n")
+		for row := range 4 {
+			for i := range 99_999 {
+				fmt.Fprintf(&b, "%d,", (i*7+row*3)%10)
+			}
+			b.WriteString([]string{"setosa\n", "versicolor\n"}[row%2])
+		}
+		return []byte(b.String())
+	},
 	// MaxCellBytes: one 10 MB field.
 	"gen_field_10mb": func() []byte {
 		return []byte("x,species\n" + strings.Repeat("a", 10<<20) + ",setosa\nb,versicolor\n")
@@ -63,6 +101,100 @@ var generatedCases = map[string]func() []byte{
 	"gen_open_quote_3mb": func() []byte {
 		return []byte("x,species\n\"1,setosa\n" + strings.Repeat("2,versicolor\n", 3<<20/13))
 	},
+}
+
+var generatedExt = map[string]string{"gen_arrow_schema_1m_fields": ".arrows"}
+
+// arrowStreamRepeatedField is an Arrow IPC stream whose schema lists one
+// float64 field "x" n times, 4 bytes a field, and no record batch. It is
+// laid out by hand after the FlatBuffers binary format and Arrow's
+// Message.fbs and Schema.fbs: a Message (version V5, header Schema) whose
+// Schema's field vector points n times at the same Field table.
+func arrowStreamRepeatedField(n int) []byte {
+	le := binary.LittleEndian
+	var b []byte
+	u8 := func(v uint8) { b = append(b, v) }
+	u16 := func(v uint16) { b = le.AppendUint16(b, v) }
+	u32 := func(v uint32) { b = le.AppendUint32(b, v) }
+	// offset writes at pos the unsigned offset from pos to target.
+	offset := func(pos, target int) { le.PutUint32(b[pos:], uint32(target-pos)) }
+	pad := func() {
+		for len(b)%4 != 0 {
+			u8(0)
+		}
+	}
+	u32(0) // root: the Message table
+	// Message vtable: 3 fields (version, header_type, header), table 12 bytes.
+	msgVtable := len(b)
+	u16(10)
+	u16(12)
+	u16(4)
+	u16(6)
+	u16(8)
+	pad()
+	msg := len(b)
+	offset(0, msg)
+	u32(uint32(msg - msgVtable)) // soffset to the vtable
+	u16(4)                       // version V5
+	u8(1)                        // header type Schema
+	u8(0)
+	u32(0) // header, set below
+	// Schema vtable: field 1 (fields) only, table 8 bytes.
+	schemaVtable := len(b)
+	u16(8)
+	u16(8)
+	u16(0)
+	u16(4)
+	schema := len(b)
+	offset(msg+8, schema)
+	u32(uint32(schema - schemaVtable))
+	u32(0) // fields, set below
+	vector := len(b)
+	offset(schema+4, vector)
+	u32(uint32(n))
+	entries := len(b)
+	b = append(b, make([]byte, 4*n)...)
+	// Field vtable: name, nullable, type_type, type; table 16 bytes.
+	fieldVtable := len(b)
+	u16(12)
+	u16(16)
+	u16(4)
+	u16(13)
+	u16(12)
+	u16(8)
+	field := len(b)
+	for i := range n {
+		offset(entries+4*i, field)
+	}
+	u32(uint32(field - fieldVtable))
+	u32(0) // name, set below
+	u32(0) // type, set below
+	u8(3)  // type_type FloatingPoint
+	u8(1)  // nullable
+	u16(0)
+	// FloatingPoint vtable: precision; table 8 bytes.
+	floatVtable := len(b)
+	u16(6)
+	u16(8)
+	u16(4)
+	pad()
+	float := len(b)
+	offset(field+8, float)
+	u32(uint32(float - floatVtable))
+	u16(2) // DOUBLE
+	u16(0)
+	name := len(b)
+	offset(field+4, name)
+	u32(1)
+	b = append(b, 'x', 0)
+	for len(b)%8 != 0 {
+		u8(0)
+	}
+	stream := le.AppendUint32(nil, 0xffffffff)
+	stream = le.AppendUint32(stream, uint32(len(b)))
+	stream = append(stream, b...)
+	stream = le.AppendUint32(stream, 0xffffffff)
+	return le.AppendUint32(stream, 0) // end of stream
 }
 
 func badDir(t *testing.T) string {
@@ -216,7 +348,7 @@ func TestBadInputs(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			file := c.file
 			if g, ok := generatedCases[c.name]; ok {
-				file = filepath.Join(gen, c.name+".csv")
+				file = filepath.Join(gen, c.name+orDefault(generatedExt[c.name], ".csv"))
 				if err := os.WriteFile(file, g(), 0o644); err != nil {
 					t.Fatal(err)
 				}

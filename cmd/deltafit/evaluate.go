@@ -45,7 +45,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err != nil {
 		return err
 	}
-	model, table, sha, err := opts.load(path, stdin)
+	model, table, sha, err := opts.load(path, stdin, stderr)
 	if err != nil {
 		return err
 	}

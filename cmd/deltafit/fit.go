@@ -193,7 +193,7 @@ func loadDataset(input inputFlags, learn learnFlags, missing missingPolicy, path
 	if err != nil {
 		return learner, nil, "", err
 	}
-	table, sha, err := readTable(path, stdin, readOpts)
+	table, sha, err := readTable(path, stdin, stderr, readOpts)
 	if err != nil {
 		return learner, nil, "", err
 	}

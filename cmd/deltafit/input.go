@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/spf13/pflag"
 
@@ -38,10 +39,11 @@ func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
 	switch d := f.delimiter; {
 	case d == "tab" || d == `\t`:
 		opts.Delimiter = '\t'
-	case len([]rune(d)) == 1 && d != "\n" && d != "\r" && d != `"`:
+	case len([]rune(d)) == 1 && utf8.ValidString(d) && d != "\n" && d != "\r" && d != `"` && d != "\x00" && d != string(utf8.RuneError):
 		opts.Delimiter = []rune(d)[0]
 	default:
-		return opts, usagef("--delimiter %q: give one character (not a quote or line break), or \"tab\"", d)
+		// encoding/csv refuses U+FFFD (and invalid UTF-8, which reads as it).
+		return opts, usagef("--delimiter %q: give one character (not a quote, line break, NUL or U+FFFD), or \"tab\"", d)
 	}
 	for _, kv := range f.kinds {
 		col, kind, ok := strings.Cut(kv, "=")
@@ -64,8 +66,9 @@ func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
 }
 
 // readTable reads a whole table from a path or "-" (stdin) and returns it
-// with the sha256 of the bytes read.
-func readTable(path string, stdin io.Reader, opts ingest.ReadOptions) (*tabular.Table, string, error) {
+// with the sha256 of the bytes read. The reader's warnings go to stderr.
+func readTable(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions) (*tabular.Table, string, error) {
+	opts.Warn = func(w *tabular.DataError) { fmt.Fprintf(stderr, "deltafit: warning: %v\n", w) }
 	var r io.Reader = stdin
 	if path != "-" {
 		f, err := os.Open(path)

@@ -9,6 +9,8 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
+
+	"deltafit/export"
 )
 
 // Exit codes, documented in every command's help.
@@ -19,7 +21,8 @@ const (
 )
 
 const exitStatusHelp = `
-Exit status: 0 ok, 1 data or runtime error, 2 usage error.`
+Exit status: 0 ok, 1 data or runtime error, 2 usage error; 130 (SIGINT) or
+143 (SIGTERM) when a signal ended the run, after removing any partial output.`
 
 // usageError marks an error in how the command was called.
 type usageError struct{ err error }
@@ -41,6 +44,7 @@ type exitCodeError struct {
 func (e exitCodeError) Error() string { return e.msg }
 
 func main() {
+	export.CleanUpOnSignal()
 	os.Exit(run(context.Background(), os.Args[1:], os.Stdin, os.Stdout, os.Stderr))
 }
 

@@ -27,7 +27,7 @@ func (m *modelInput) add(fs *pflag.FlagSet) {
 
 // load reads the model and then the data, read with the kinds the model's
 // plan expects (a --kind flag still wins).
-func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *tabular.Table, string, error) {
+func (m *modelInput) load(path string, stdin io.Reader, stderr io.Writer) (*export.Model, *tabular.Table, string, error) {
 	if m.model == "" {
 		return nil, nil, "", usagef("--model is required: give a model file written by fit -o")
 	}
@@ -43,7 +43,7 @@ func (m *modelInput) load(path string, stdin io.Reader) (*export.Model, *tabular
 		return nil, nil, "", err
 	}
 	readOpts.Expected = model.Plan.Kinds()
-	table, sha, err := readTable(path, stdin, readOpts)
+	table, sha, err := readTable(path, stdin, stderr, readOpts)
 	if err != nil {
 		return nil, nil, "", err
 	}

@@ -44,7 +44,7 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 			return err
 		}
 	}
-	model, table, _, err := opts.load(path, stdin)
+	model, table, _, err := opts.load(path, stdin, stderr)
 	if err != nil {
 		return err
 	}
