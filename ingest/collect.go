@@ -89,7 +89,11 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*tabular.Tab
 	for i, b := range builders {
 		reason := "declared"
 		kind, declared := opts.Kinds[b.name]
-		if !declared {
+		labelText := !declared && opts.Target != "" && b.name == opts.Target
+		switch {
+		case labelText:
+			kind, declared = tabular.Categorical, true
+		case !declared:
 			reason = "the model reads as"
 			kind, declared = opts.Expected[b.name]
 		}
@@ -98,6 +102,7 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*tabular.Tab
 			err.File = name
 			return nil, err
 		}
+		col.LabelText = labelText
 		if w := b.underflowWarning(); w != nil && opts.Warn != nil {
 			w.File = name
 			opts.Warn(w)

@@ -53,6 +53,10 @@ type ReadOptions struct {
 	Format Format
 	// Delimiter separates CSV fields; 0 means ','.
 	Delimiter rune
+	// Target names the column of class labels. Unless Kinds declares its
+	// kind, its cells are kept as written (a class label is text: "007"
+	// and "7" are two labels), and the column is marked LabelText.
+	Target string
 	// Kinds overrides inferred column kinds by column name; naming a
 	// column the input does not have is an error.
 	Kinds map[string]tabular.Kind

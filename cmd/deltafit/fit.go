@@ -193,6 +193,7 @@ func loadDataset(input inputFlags, learn learnFlags, missing missingPolicy, path
 	if err != nil {
 		return learner, nil, "", err
 	}
+	readOpts.Target = learn.target
 	table, sha, err := readTable(path, stdin, stderr, readOpts)
 	if err != nil {
 		return learner, nil, "", err
@@ -201,7 +202,14 @@ func loadDataset(input inputFlags, learn learnFlags, missing missingPolicy, path
 		table = missing.apply(table, learn.target, learn.ignore, stderr)
 	}
 	d, err := tabular.NewDataset(table, learn.target, learn.ignore)
-	return learner, d, sha, err
+	if err != nil {
+		return learner, nil, "", err
+	}
+	for _, same := range d.SameNumber {
+		fmt.Fprintf(stderr, "deltafit: warning: %s: column %s: the labels %s are different classes though they are the same number; declare the column numeric (--kind %s=numeric) to make them one class\n",
+			tabular.DisplayName(path), learn.target, quoteJoin(same), learn.target)
+	}
+	return learner, d, sha, nil
 }
 
 // maxRate is the largest --rate accepted (1e6 in the usage message).
@@ -219,4 +227,13 @@ func divergenceHint(err error, learn learnFlags) error {
 		return fmt.Errorf("%w; try a smaller --rate", err)
 	}
 	return fmt.Errorf("%w; try --rate auto, or a smaller --rate", err)
+}
+
+// quoteJoin quotes each label and joins them with "and".
+func quoteJoin(labels []string) string {
+	quoted := make([]string, len(labels))
+	for i, l := range labels {
+		quoted[i] = strconv.Quote(l)
+	}
+	return strings.Join(quoted, " and ")
 }

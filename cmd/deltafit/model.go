@@ -43,6 +43,7 @@ func (m *modelInput) load(path string, stdin io.Reader, stderr io.Writer) (*expo
 		return nil, nil, "", err
 	}
 	readOpts.Expected = model.Plan.Kinds()
+	readOpts.Target = model.Target
 	table, sha, err := readTable(path, stdin, stderr, readOpts)
 	if err != nil {
 		return nil, nil, "", err

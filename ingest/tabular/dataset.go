@@ -17,6 +17,10 @@ type Dataset struct {
 	Labels   []string  // class labels, sorted (numerically when all are numbers)
 	Classes  []int     // class index of each row, into Labels
 	Features []*Column // every column but the target and the ignored ones, in table order
+	// SameNumber lists groups of labels that are distinct as text but
+	// the same number ("007" and "7"): distinct classes, which a user may
+	// have meant as one.
+	SameNumber [][]string
 }
 
 // MaxNumericClasses is the most distinct values a numeric target may
@@ -44,7 +48,7 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	if err != nil {
 		return nil, err
 	}
-	if col.Kind == Numeric && len(labels) > MaxNumericClasses {
+	if (col.Kind == Numeric || (col.LabelText && allNumbers(labels))) && len(labels) > MaxNumericClasses {
 		return nil, &DataError{File: t.Name, Column: t.Index(target) + 1, Name: target,
 			Err: fmt.Errorf("the target holds %d distinct numbers, so it looks like a measurement, not a class (at most %d distinct numbers are taken as classes); group it into classes, or declare the column categorical to take each value as a class", len(labels), MaxNumericClasses)}
 	}
@@ -52,7 +56,7 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 		return nil, &DataError{File: t.Name, Column: t.Index(target) + 1, Name: target,
 			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", labels[0])}
 	}
-	d := &Dataset{Table: t, Target: target, Labels: labels, Classes: classes}
+	d := &Dataset{Table: t, Target: target, Labels: labels, Classes: classes, SameNumber: sameNumber(labels)}
 	for _, c := range t.Columns {
 		if c == col || slices.Contains(ignore, c.Name) {
 			continue
@@ -134,6 +138,40 @@ func targetClasses(t *Table, col *Column) ([]string, []int, error) {
 func missingTarget(t *Table, col *Column, row int) error {
 	return &DataError{File: t.Name, Row: t.RowNumber(row), Column: t.Index(col.Name) + 1, Name: col.Name,
 		Err: errors.New("the target cell is missing; every row needs a class (drop the row or fill it in)")}
+}
+
+// allNumbers reports whether every label parses as a number.
+func allNumbers(labels []string) bool {
+	for _, l := range labels {
+		if _, err := strconv.ParseFloat(l, 64); err != nil {
+			return false
+		}
+	}
+	return true
+}
+
+// sameNumber returns the groups of labels that parse as the same number,
+// each in label order, the groups in the order of their first label.
+func sameNumber(labels []string) [][]string {
+	groups := map[float64][]string{}
+	var order []float64
+	for _, l := range labels {
+		x, err := strconv.ParseFloat(strings.TrimSpace(l), 64)
+		if err != nil {
+			continue
+		}
+		if len(groups[x]) == 0 {
+			order = append(order, x)
+		}
+		groups[x] = append(groups[x], l)
+	}
+	var same [][]string
+	for _, x := range order {
+		if len(groups[x]) > 1 {
+			same = append(same, groups[x])
+		}
+	}
+	return same
 }
 
 // sortLabels sorts numerically when every label is a number, else as text.

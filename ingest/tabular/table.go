@@ -55,6 +55,10 @@ type Column struct {
 	Text []string
 	// Missing marks missing cells; nil when no cell is missing.
 	Missing []bool
+	// LabelText marks a column of class labels kept as written because it
+	// is the target, though its kind was not declared: its values may
+	// all be numbers.
+	LabelText bool
 }
 
 // Len is the number of rows.
@@ -132,7 +136,7 @@ func (t *Table) DropRows(keep func(row int) bool) (*Table, int) {
 		out.RowNumbers[n] = t.RowNumber(i)
 	}
 	for _, c := range t.Columns {
-		nc := &Column{Name: c.Name, Kind: c.Kind}
+		nc := &Column{Name: c.Name, Kind: c.Kind, LabelText: c.LabelText}
 		if c.Numbers != nil {
 			nc.Numbers = make([]float64, len(kept))
 		}
