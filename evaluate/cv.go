@@ -53,6 +53,9 @@ func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, work
 	if err != nil {
 		return nil, fit.Patterns{}, err
 	}
+	if err := model.CheckSize(len(d.Labels), len(d.Features), plan.Width()); err != nil {
+		return nil, fit.Patterns{}, err
+	}
 	values, _ := plan.EncodeTo(nil, d.Features, nil)
 	all := fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}
 	var store fit.Store = all

@@ -7,6 +7,7 @@ import (
 	"runtime"
 
 	"deltafit/fit"
+	"deltafit/fit/model"
 	"deltafit/ingest/tabular"
 )
 
@@ -39,6 +40,9 @@ type StudyOptions struct {
 func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, opts StudyOptions) (*Study, error) {
 	if l.Fit.Workers == 0 {
 		l.Fit.Workers = runtime.GOMAXPROCS(0)
+	}
+	if err := model.CheckSize(len(d.Labels), len(d.Features), 0); err != nil {
+		return nil, fmt.Errorf("%s: %w", tabular.DisplayName(d.Table.Name), err)
 	}
 	repeats := max(1, opts.Repeats)
 	var splits [][][]int

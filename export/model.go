@@ -14,7 +14,7 @@ import (
 	"deltafit/evaluate"
 	"deltafit/fit"
 	"deltafit/fit/model"
-	"deltafit/ingest/encode"
+	"deltafit/ingest"
 )
 
 // Version is the tool's version, written into every model file.
@@ -141,6 +141,9 @@ func ReadModel(name string, r io.Reader) (*Model, error) {
 	if len(b) > MaxModelBytes {
 		return nil, fmt.Errorf("%s: %w: the file is larger than the cap of %d MiB", name, ErrModel, MaxModelBytes>>20)
 	}
+	if err := checkKeys(b); err != nil {
+		return nil, fmt.Errorf("%s: %w: %w", name, ErrModel, err)
+	}
 	var head struct {
 		Schema *int `json:"schema_version"`
 	}
@@ -215,8 +218,16 @@ func (m *Model) Validate() error {
 	if m.Network.Inputs != m.Plan.Width() {
 		return fmt.Errorf("its network has %d inputs but its plan makes %d", m.Network.Inputs, m.Plan.Width())
 	}
-	if m.Network.Inputs > encode.MaxWidth || m.Network.Classes > encode.MaxCategories {
-		return errors.New("its network is larger than the caps")
+	if err := model.CheckSize(m.Network.Classes, len(m.Plan.Features), m.Network.Inputs); err != nil {
+		return err
+	}
+	if _, err := fit.RuleByName(m.Network.Rule); err != nil {
+		return err
+	}
+	for i, l := range m.Labels {
+		if len(l) > ingest.MaxCellBytes {
+			return fmt.Errorf("class label %d is %d bytes, over the cell cap of %d", i+1, len(l), ingest.MaxCellBytes)
+		}
 	}
 	return m.Network.Validate()
 }

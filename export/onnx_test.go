@@ -475,7 +475,7 @@ func TestONNXRefuses(t *testing.T) {
 			Plan: &encode.Plan{Features: []encode.Feature{
 				{Column: column, Kind: tabular.Numeric, Method: encode.ZScore, Scale: 1, Missing: true},
 			}},
-			Network: &fit.Network{Inputs: 2, Classes: 2, On: 1, Weights: [][]float64{{1, 1}}, Biases: []float64{0}}}}
+			Network: &fit.Network{Rule: "delta", Inputs: 2, Classes: 2, On: 1, Weights: [][]float64{{1, 1}}, Biases: []float64{0}}}}
 	}
 	noUnits := oneColumn("x")
 	noUnits.Plan.Features = nil

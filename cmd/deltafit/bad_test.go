@@ -97,13 +97,33 @@ var generatedCases = map[string]func() []byte{
 	"gen_header_2mib": func() []byte {
 		return []byte(strings.Repeat("x", 2<<20) + ",species\n1,setosa\n")
 	},
+	// A model whose first class label is over MaxCellBytes: the model
+	// reader refuses what the CSV reader would refuse as a cell.
+	"gen_model_label_2mb": func() []byte {
+		b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "bad", "model_unknown_rule.json"))
+		if err != nil {
+			panic(err)
+		}
+		text := strings.Replace(string(b), `"perceptron"`, `"delta"`, 1)
+		return []byte(strings.Replace(text, `"setosa",`, `"`+strings.Repeat("s", 2<<20)+`",`, 1))
+	},
+	// model.MaxClasses: 1,001 classes are refused before any training, as
+	// a model file of them could not be read back.
+	"gen_classes_1001": func() []byte {
+		var b strings.Builder
+		b.WriteString("x,kind\n")
+		for i := range 1001 {
+			fmt.Fprintf(&b, "%d,k%d\n", i%7, i)
+		}
+		return []byte(b.String())
+	},
 	// An open quote in the first row swallows the rest of a 3 MB file.
 	"gen_open_quote_3mb": func() []byte {
 		return []byte("x,species\n\"1,setosa\n" + strings.Repeat("2,versicolor\n", 3<<20/13))
 	},
 }
 
-var generatedExt = map[string]string{"gen_arrow_schema_1m_fields": ".arrows"}
+var generatedExt = map[string]string{"gen_arrow_schema_1m_fields": ".arrows", "gen_model_label_2mb": ".json"}
 
 // arrowStreamRepeatedField is an Arrow IPC stream whose schema lists one
 // float64 field "x" n times, 4 bytes a field, and no record batch. It is

@@ -2,6 +2,7 @@ package model
 
 import (
 	"errors"
+	"fmt"
 	"math"
 
 	"deltafit/fit"
@@ -149,3 +150,29 @@ func allRows(n int) []int {
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// The largest classifier a model file may hold: a model reader refuses
+// more, so fitting checks them before any training.
+const (
+	MaxClasses  = encode.MaxCategories
+	MaxFeatures = encode.MaxFeatures
+	MaxInputs   = encode.MaxWidth
+)
+
+// ErrTooLarge is wrapped by the errors of CheckSize.
+var ErrTooLarge = errors.New("model: larger than a model file may hold")
+
+// CheckSize reports whether a classifier of classes classes, features
+// feature columns and inputs input units fits the caps; the error names
+// the figure and the cap.
+func CheckSize(classes, features, inputs int) error {
+	switch {
+	case classes > MaxClasses:
+		return fmt.Errorf("%w: %d classes, over the cap of %d", ErrTooLarge, classes, MaxClasses)
+	case features > MaxFeatures:
+		return fmt.Errorf("%w: %d feature columns, over the cap of %d", ErrTooLarge, features, MaxFeatures)
+	case inputs > MaxInputs:
+		return fmt.Errorf("%w: %d input units, over the cap of %d", ErrTooLarge, inputs, MaxInputs)
+	}
+	return nil
+}
