@@ -40,8 +40,8 @@ const (
 // d (nil means all): each candidate is fitted on three quarters of the rows
 // (a stratified split) and scored on the rest; the most accurate wins, ties
 // going to the candidate with fewer units. With fewer than autoMinRows rows,
-// or no numeric feature, there is nothing to choose on and the thermometer
-// candidate is taken.
+// there is nothing to choose on and the thermometer candidate is taken;
+// with no numeric feature there is nothing to choose and the choice is nil.
 func (l Learner) chooseNumeric(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (encode.Encoding, *EncodingChoice, error) {
 	candidates := encode.AutoCandidates(l.Plan.Numeric)
 	fallback := candidates[1]
@@ -50,8 +50,7 @@ func (l Learner) chooseNumeric(ctx context.Context, d *tabular.Dataset, rows []i
 	}
 	choice := &EncodingChoice{Chosen: fallback.String()}
 	if !slices.ContainsFunc(d.Features, func(c *tabular.Column) bool { return c.Kind == tabular.Numeric }) {
-		choice.Basis = "no numeric column"
-		return fallback, choice, nil
+		return fallback, nil, nil // nothing to choose
 	}
 	if len(rows) < autoMinRows {
 		choice.Basis = fmt.Sprintf("fewer than %d training rows: no inner split", autoMinRows)

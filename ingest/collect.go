@@ -383,8 +383,11 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 				continue
 			}
 			t, ok := parseBool(v)
+			if !ok { // a declared boolean column may hold 0 and 1
+				t, ok = parseBit(v)
+			}
 			if !ok {
-				return nil, b.fail(i+1, fmt.Errorf("%s is not true or false, in a column %s boolean", quoteCell(v), reason))
+				return nil, b.fail(i+1, fmt.Errorf("%s is not true, false, 1 or 0, in a column %s boolean", quoteCell(v), reason))
 			}
 			if t {
 				col.Numbers[i] = 1
@@ -545,6 +548,17 @@ func invisible(name string) bool {
 		}
 	}
 	return true
+}
+
+// parseBit reads 0 and 1 as false and true, for columns declared boolean.
+func parseBit(v string) (bool, bool) {
+	switch strings.TrimSpace(v) {
+	case "1":
+		return true, true
+	case "0":
+		return false, true
+	}
+	return false, false
 }
 
 func parseBool(v string) (bool, bool) {

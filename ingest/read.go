@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"io"
 	"runtime"
+	"slices"
 	"strings"
 	"sync/atomic"
 	"unicode/utf8"
@@ -53,6 +54,9 @@ type ReadOptions struct {
 	Format Format
 	// Delimiter separates CSV fields; 0 means ','.
 	Delimiter rune
+	// Missing are cell texts read as missing in CSV, besides NullValues
+	// (such as "?" or "-999").
+	Missing []string
 	// Target names the column of class labels. Unless Kinds declares its
 	// kind, its cells are kept as written (a class label is text: "007"
 	// and "7" are two labels), and the column is marked LabelText.
@@ -310,7 +314,7 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 		arrowcsv.WithHeader(true),
 		arrowcsv.WithComma(delim),
 		arrowcsv.WithChunk(csvBatchRows(opts.batchRows(), len(names))),
-		arrowcsv.WithNullReader(true, NullValues...),
+		arrowcsv.WithNullReader(true, append(slices.Clone(NullValues), opts.Missing...)...),
 		arrowcsv.WithAllocator(opts.allocator()))
 	return rdr, nil
 }

@@ -21,16 +21,18 @@ type inputFlags struct {
 	delimiter string
 	format    string
 	kinds     []string
+	na        []string
 }
 
 func (f *inputFlags) add(fs *pflag.FlagSet) {
 	fs.StringVar(&f.delimiter, "delimiter", ",", `CSV field delimiter: one character, or "tab"`)
 	fs.StringVar(&f.format, "input-format", "auto", "input format: auto, csv, arrow or parquet")
 	fs.StringArrayVar(&f.kinds, "kind", nil, "declare a column's kind, as COLUMN=numeric|categorical|boolean (repeatable)")
+	fs.StringSliceVar(&f.na, "na", nil, `cell texts that mean missing in CSV, besides the empty cell and NA (comma-separated, such as "?")`)
 }
 
 func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
-	var opts ingest.ReadOptions
+	opts := ingest.ReadOptions{Missing: f.na}
 	format, err := ingest.ParseFormat(f.format)
 	if err != nil {
 		return opts, usageError{err}
