@@ -174,7 +174,7 @@ func TestReadCSVErrors(t *testing.T) {
 		{"-Infinity", setCell(7, 4, "-Infinity"), ingest.ReadOptions{}, nil, 7, 4, "petal_width", "not a finite number"},
 		{"1e400 overflows float64", setCell(150, 1, "1e400"), ingest.ReadOptions{}, nil, 150, 1, "sepal_length", "outside the range"}, // IEEE 754: largest float64 ≈ 1.8e308
 		{"declared numeric", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"species": tabular.Numeric}}, nil, 1, 5, "species", `"setosa" is not a number`},
-		{"declared boolean", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"species": tabular.Boolean}}, nil, 1, 5, "species", "not true or false"},
+		{"declared boolean", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"species": tabular.Boolean}}, nil, 1, 5, "species", "not true, false, 1 or 0"},
 		{"kind for an unknown column", string(fixture.IrisBytes()), ingest.ReadOptions{Kinds: map[string]tabular.Kind{"petal": tabular.Numeric}}, nil, 0, 0, "petal", "no such column"},
 		{"row with an extra field", setCell(60, 5, "versicolor,1"), ingest.ReadOptions{}, nil, 60, 0, "", "different number of fields"},
 		{"row with a field short", fixture.EditIris(func(c [][]string) { c[60] = c[60][:4] }), ingest.ReadOptions{}, nil, 60, 0, "", "different number of fields"},
