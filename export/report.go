@@ -140,6 +140,9 @@ type MethodSummary struct {
 	Accuracy float64 `json:"accuracy"` // mean of the fold accuracies
 	SD       float64 `json:"sd"`       // their sample sd
 	TableMetrics
+	// Note explains a result a reader would ask about, such as a baseline
+	// that predicts one class for every row.
+	Note string `json:"note,omitempty"`
 }
 
 // Baselines are the methods cross-validated beside the delta rule.
@@ -164,7 +167,7 @@ type CVReport struct {
 // NewCVReport gathers the cross-validation results of the main method and
 // its majority and Hebbian baselines.
 func NewCVReport(seed uint64, main, majority, hebbian *evaluate.CVResult) *CVReport {
-	return &CVReport{
+	r := &CVReport{
 		Method:          main.Method,
 		Folds:           len(main.FoldAccuracy) / len(main.RepeatAccuracy),
 		Repeats:         len(main.RepeatAccuracy),
@@ -174,6 +177,8 @@ func NewCVReport(seed uint64, main, majority, hebbian *evaluate.CVResult) *CVRep
 		ConfusionDetail: confusionDetail(main.Confusion),
 		Baselines:       Baselines{Majority: summarise(majority), Hebbian: summarise(hebbian)},
 	}
+	r.Baselines.Hebbian.Note = hebbianNote(hebbian)
+	return r
 }
 
 func spread(r *evaluate.CVResult) Spread {
@@ -186,6 +191,28 @@ func spread(r *evaluate.CVResult) Spread {
 
 func summarise(r *evaluate.CVResult) MethodSummary {
 	return MethodSummary{Pooled: r.Pooled, Accuracy: r.Mean, SD: r.SD, TableMetrics: tableMetrics(r.Confusion)}
+}
+
+// hebbianNote says why the Hebbian baseline predicts one class for every
+// row, when it does: its weights are the mean of target × input, so on
+// unbalanced classes, or inputs that are on for most rows of every class,
+// the bias and the shared inputs favour the larger class (common
+// practice).
+func hebbianNote(r *evaluate.CVResult) string {
+	cols, predicted := r.Confusion.ColTotals(), -1
+	for j, n := range cols {
+		if n == 0 {
+			continue
+		}
+		if predicted >= 0 {
+			return ""
+		}
+		predicted = j
+	}
+	if predicted < 0 {
+		return ""
+	}
+	return fmt.Sprintf("the Hebbian baseline predicts %q for every row: its weights are the mean of target × input, and inputs that are on for most rows of every class favour the largest class", r.Confusion.Labels[predicted])
 }
 
 // FitReport is what `deltafit fit` reports.
@@ -445,6 +472,9 @@ func (p *printer) cv(r *CVReport) {
 		methodRow("majority", r.Baselines.Majority),
 	}, nil)
 	p.line("accuracy is pooled: right out-of-fold predictions over all rows; fold mean and sd are over the %d folds", r.Folds*r.Repeats)
+	if note := r.Baselines.Hebbian.Note; note != "" {
+		p.line("%s", note)
+	}
 	if r.Repeats > 1 {
 		p.line("over the %d repeats the pooled accuracy of %s has sd %s", r.Repeats, r.Method, num(r.Accuracy.RepeatSD))
 	}
