@@ -1,6 +1,13 @@
 // Package evaluate scores classifiers: confusion tables and the metrics
-// read from them, stratified k-fold splits, and small summaries used when
-// reporting cross-validation.
+// read from them, stratified k-fold splits, cross-validation of a learner
+// beside its baselines (RunStudy), the auto choice of a numeric encoding on
+// training rows, and the scoring of labelled rows by a saved classifier.
+//
+// Cross-validation never leaks a held-out fold: the encoding plan, the auto
+// encoding choice and the weights of each fold are fitted on its training
+// rows only, and the held-out rows are scored through the one scoring path
+// of package model. The headline accuracy is pooled over every held-out
+// prediction; the fold mean and sd sit beside it.
 //
 // # Confusion tables
 //
@@ -27,7 +34,9 @@
 //
 // # Folds
 //
-// [StratifiedFolds] splits row indexes into k test folds. The invariants:
+// [StratifiedFolds] splits row indexes into k test folds; a class with
+// fewer rows than k is in fewer folds ([SmallClasses] names it). The
+// invariants:
 //
 //   - every row is in exactly one fold, and each fold is sorted ascending;
 //   - for every class, the number of its rows in any two folds differs by

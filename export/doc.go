@@ -1,7 +1,9 @@
 // Package export hands results on: the model file, prediction files and the
 // reports of fit, evaluate and cross-validation in text, Markdown or JSON.
 //
-// It is the last stage of the pipeline ingest → fit → evaluate → export.
+// It is the last stage of the pipeline ingest → encode → fit → evaluate →
+// export. The classifier itself, and the scoring of rows, live in package
+// model; export keeps file formats and provenance.
 //
 // Invariants that always hold:
 //   - Regular files are written atomically: to a temporary file in the same
@@ -12,9 +14,11 @@
 //     of NAME removes those of processes that no longer run. Devices,
 //     FIFOs, sockets and /dev/stdout-like paths are written through, never
 //     replaced. New files follow the umask; existing ones keep their mode.
-//   - Predict never returns a NaN or infinite score: such a row is an error.
+//   - Predictions written come from model.Classifier, which never returns a
+//     NaN or infinite score: such a row is an error.
 //   - The same model, options and seed give the same bytes: JSON keys are in
 //     a fixed order and numbers are printed in their shortest exact form.
-//   - A model file is checked (size cap, schema version, dimensions, finite
-//     weights) before anything in it is used.
+//   - A model file is checked (size cap, schema version, keys that repeat
+//     or differ only in letter case, known rules and encodings, dimensions
+//     within the caps, finite weights) before anything in it is used.
 package export
