@@ -22,6 +22,15 @@ func TestCheckExitCodes(t *testing.T) {
 		{"xor gated", []string{"check", data("xor.csv"), "--target", "y", "--require", "separable"}, exitNotSeparable, "1 against 0 (not separable)"},              // Minsky & Papert 1969
 		{"and gated", []string{"check", data("and.csv"), "--target", "y", "--require", "separable"}, 0, ""},                                                        // Minsky & Papert 1969
 		{"iris raw gated", []string{"check", data("iris.csv"), "--target", "species", "--space", "raw", "--require", "separable"}, exitNotSeparable, "versicolor"}, // UCI iris.names
+		// Iris raw (UCI iris.names): setosa is separable; with a budget of
+		// one pivot the two other splits are undecided, which fails the
+		// gate with its own code.
+		{"iris raw out of budget gated", []string{"check", data("iris.csv"), "--target", "species", "--space", "raw", "--budget", "1", "--require", "separable"}, exitUndecided, "versicolor against rest (undecided (budget))"},
+		{"budget not positive", []string{"check", data("iris.csv"), "--target", "species", "--budget", "0"}, exitUsage, "--budget"},
+		{"bad split", []string{"check", data("iris.csv"), "--target", "species", "--split", "setosa"}, exitUsage, "--split"},
+		{"unknown split class", []string{"check", data("iris.csv"), "--target", "species", "--split", "setosa,rose"}, exitUsage, `"rose" is not a class`},
+		{"unknown positive class", []string{"check", data("iris.csv"), "--target", "species", "--positive", "rose"}, exitUsage, "--positive"},
+		{"missing drop needs raw", []string{"check", data("iris.csv"), "--target", "species", "--missing", "drop"}, exitUsage, "--missing drop is for --space raw"},
 		{"bad space", []string{"check", data("iris.csv"), "--target", "species", "--space", "latent"}, exitUsage, "--space"},
 		{"bad requirement", []string{"check", data("iris.csv"), "--target", "species", "--require", "perfect"}, exitUsage, "--require"},
 		{"no target", []string{"check", data("iris.csv")}, exitUsage, "--target"},

@@ -1,6 +1,7 @@
 package separate
 
 import (
+	"context"
 	"fmt"
 	"math/rand/v2"
 	"strconv"
@@ -65,7 +66,7 @@ func BenchmarkCheck(b *testing.B) {
 			b.Run(fmt.Sprintf("rows=%d/inputs=64/classes=3/space=%s", rows, tc.space), func(b *testing.B) {
 				b.ReportAllocs()
 				for b.Loop() {
-					r, err := Check(d, opts)
+					r, err := Check(context.Background(), d, opts)
 					if err != nil {
 						b.Fatal(err)
 					}
@@ -87,7 +88,7 @@ func BenchmarkSeparateWidth(b *testing.B) {
 	for _, rows := range []int{1000, 2000} {
 		for _, inputs := range []int{64, 128, 192, 256} {
 			d := benchDataset(rows, inputs, 1)
-			p, _, _, err := Coordinates(d, Raw, encode.Options{})
+			c, err := NewCoordinates(d, Raw, encode.Options{})
 			if err != nil {
 				b.Fatal(err)
 			}
@@ -95,7 +96,7 @@ func BenchmarkSeparateWidth(b *testing.B) {
 			b.Run(fmt.Sprintf("rows=%d/inputs=%d", rows, inputs), func(b *testing.B) {
 				b.ReportAllocs()
 				for b.Loop() {
-					res, err := Separate(p, pos, neg, Options{Seed: 1, MaxInputs: inputs})
+					res, err := Separate(context.Background(), c.Points, pos, neg, Options{Seed: 1, MaxInputs: inputs})
 					if err != nil {
 						b.Fatal(err)
 					}

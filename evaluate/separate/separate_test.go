@@ -1,6 +1,7 @@
 package separate
 
 import (
+	"context"
 	"errors"
 	"math"
 	"math/rand/v2"
@@ -10,7 +11,6 @@ import (
 	"strings"
 	"testing"
 
-	"deltafit/fit"
 	"deltafit/ingest"
 	"deltafit/ingest/tabular"
 )
@@ -49,10 +49,10 @@ func split(classes []int, positive int) (pos, neg []int) {
 
 // separateClasses runs Separate on class 1 against class 0 and fails the
 // test unless the verdict is want.
-func separateClasses(t *testing.T, p fit.Patterns, classes []int, want Verdict) *Result {
+func separateClasses(t *testing.T, p Points, classes []int, want Verdict) *Result {
 	t.Helper()
 	pos, neg := split(classes, 1)
-	res, err := Separate(p, pos, neg, Options{Seed: 1})
+	res, err := Separate(context.Background(), p, pos, neg, Options{Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -63,14 +63,14 @@ func separateClasses(t *testing.T, p fit.Patterns, classes []int, want Verdict) 
 }
 
 // truthTable reads the columns x1, x2 of a truth table as they are.
-func truthTable(t *testing.T, name string) (fit.Patterns, []int) {
+func truthTable(t *testing.T, name string) (Points, []int) {
 	d := readDataset(t, name, "y")
 	x1, x2 := d.Table.Column("x1").Numbers, d.Table.Column("x2").Numbers
 	var values []float64
 	for i := range x1 {
 		values = append(values, x1[i], x2[i])
 	}
-	return fit.Patterns{Width: 2, Values: values}, d.Classes
+	return Points{Width: 2, Values: values}, d.Classes
 }
 
 func TestTruthTables(t *testing.T) {
@@ -115,7 +115,7 @@ func TestTruthTables(t *testing.T) {
 
 func TestIrisRawSpace(t *testing.T) {
 	d := readDataset(t, "iris.csv", "species")
-	r, err := Check(d, CheckOptions{Space: Raw, Pairs: true, Seed: 1})
+	r, err := Check(context.Background(), d, CheckOptions{Space: Raw, Pairs: true, Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -151,7 +151,7 @@ func TestIrisRawSpace(t *testing.T) {
 // planted returns n points uniform in [−1,1]^dim labelled by a random
 // hyperplane, keeping only points at least gap from it, and the scores
 // w·x+b of the hyperplane (w of unit length).
-func planted(n, dim int, gap float64, seed uint64) (fit.Patterns, []int, []float64) {
+func planted(n, dim int, gap float64, seed uint64) (Points, []int, []float64) {
 	rng := rand.New(rand.NewPCG(seed, 1))
 	w := make([]float64, dim)
 	norm := 0.0
@@ -163,7 +163,7 @@ func planted(n, dim int, gap float64, seed uint64) (fit.Patterns, []int, []float
 		w[j] /= math.Sqrt(norm)
 	}
 	bias := 0.1
-	p := fit.Patterns{Width: dim}
+	p := Points{Width: dim}
 	var classes []int
 	var scores []float64
 	x := make([]float64, dim)
@@ -258,7 +258,7 @@ func TestNovikoffBound(t *testing.T) {
 // perceptronMistakes trains a threshold unit by error correction, w += y·x̃
 // on each misclassified row, cycling until a pass makes no correction, and
 // returns the number of corrections.
-func perceptronMistakes(p fit.Patterns, classes []int) int {
+func perceptronMistakes(p Points, classes []int) int {
 	w := make([]float64, p.Width+1)
 	mistakes := 0
 	for changed := true; changed; {
@@ -290,7 +290,7 @@ func TestConflicts(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := Check(d, CheckOptions{})
+	r, err := Check(context.Background(), d, CheckOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -322,7 +322,10 @@ func TestProfile(t *testing.T) {
 	// Fisher 1936 data (from memory): setosa petals are 1.0-1.9 long and
 	// 0.1-0.6 wide, the other species' at least 3.0 and 1.0, so each petal
 	// column alone splits setosa off; no sepal column does.
-	want := []Separator{{"petal_length", "setosa", "threshold"}, {"petal_width", "setosa", "threshold"}}
+	want := []Separator{
+		{Column: "petal_length", Class: "setosa", How: "threshold", Rows: 150, ClassBelow: true, ClassEdge: 1.9, RestEdge: 3},
+		{Column: "petal_width", Class: "setosa", How: "threshold", Rows: 150, ClassBelow: true, ClassEdge: 0.6, RestEdge: 1},
+	}
 	if !slices.Equal(p.Separators, want) {
 		t.Errorf("separators %+v, want %+v", p.Separators, want)
 	}
@@ -349,11 +352,11 @@ func TestInputCap(t *testing.T) {
 	}{
 		{"xor raw over the cap", readDataset(t, "xor.csv", "y"), Raw, TooManyInputs, []string{"2 inputs", "cap of 1", "--ignore"}},
 		{"and raw over the cap", readDataset(t, "and.csv", "y"), Raw, TooManyInputs, []string{"2 inputs", "cap of 1", "--ignore"}},
-		{"encoded over the cap", readDataset(t, "or.csv", "y"), Encoded, TooManyInputs, []string{"inputs are over the cap of 1", "--numeric zscore", "thermometer:K", "--space raw"}},
+		{"encoded over the cap", readDataset(t, "or.csv", "y"), Encoded, TooManyInputs, []string{"inputs vary on the rows of the split, over the cap of 1", "--numeric zscore", "thermometer:K", "--space raw"}},
 		{"shared pattern still proves", shared, Encoded, NotSeparable, nil},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			r, err := Check(tc.d, CheckOptions{Space: tc.space, Seed: 1, MaxInputs: 1})
+			r, err := Check(context.Background(), tc.d, CheckOptions{Space: tc.space, Seed: 1, MaxInputs: 1})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -393,7 +396,7 @@ func TestRawSpaceLeftOut(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := Check(d, CheckOptions{Space: Raw})
+	r, err := Check(context.Background(), d, CheckOptions{Space: Raw})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -407,7 +410,7 @@ func TestRawSpaceLeftOut(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, err = Check(d, CheckOptions{Space: Raw})
+		_, err = Check(context.Background(), d, CheckOptions{Space: Raw})
 		if err == nil {
 			t.Fatal("no error")
 		}
@@ -431,7 +434,7 @@ func TestRawSpaceErrorPosition(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Check(d, CheckOptions{Space: Raw})
+	_, err = Check(context.Background(), d, CheckOptions{Space: Raw})
 	var de *tabular.DataError
 	if !errors.As(err, &de) || de.Row != 2 || de.Column != 3 || de.Name != "x" {
 		t.Fatalf("error %v, want a DataError at row 2, column 3 (x)", err)

@@ -3,8 +3,6 @@ package separate
 import (
 	"fmt"
 	"math"
-
-	"deltafit/fit"
 )
 
 // This file checks proofs against the data, sharing nothing with the
@@ -21,7 +19,7 @@ const certificateTolerance = 1e-9
 // weights are non-negative and sum to 1 on each side, and the weighted
 // means coincide. It returns the residual ‖Σλx − Σμx‖∞, and an error
 // saying what fails when c is not a valid certificate.
-func VerifyCertificate(p fit.Patterns, positive, negative []int, c *Certificate) (float64, error) {
+func VerifyCertificate(p Points, positive, negative []int, c *Certificate) (float64, error) {
 	if len(c.Rows) != len(c.Weights) || len(c.Rows) != len(c.Positive) {
 		return 0, fmt.Errorf("separate: certificate has %d rows, %d weights and %d sides", len(c.Rows), len(c.Weights), len(c.Positive))
 	}
@@ -75,7 +73,7 @@ func VerifyCertificate(p fit.Patterns, positive, negative []int, c *Certificate)
 // products, Higham 2002 §3.1). It returns the margin min |w·x+b| / ‖w‖₂
 // and the number of rows checked, and an error naming the first row on the
 // wrong side.
-func VerifyWitness(p fit.Patterns, positive, negative []int, w *Witness) (margin float64, rows int, err error) {
+func VerifyWitness(p Points, positive, negative []int, w *Witness) (margin float64, rows int, err error) {
 	if len(w.Weights) != p.Width {
 		return 0, 0, fmt.Errorf("separate: witness has %d weights for %d inputs", len(w.Weights), p.Width)
 	}
