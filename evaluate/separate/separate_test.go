@@ -3,6 +3,7 @@ package separate
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -474,4 +475,194 @@ func TestDuplicateRows(t *testing.T) {
 			t.Errorf("duplicates %d in %v, want 1 in [[102 143]]", p.DuplicateRows, p.DuplicateGroups)
 		}
 	})
+}
+
+func TestBudget(t *testing.T) {
+	// Iris raw (UCI iris.names): versicolor against the rest is not
+	// separable, and the error-correction passes cannot settle it, so the
+	// simplex must pivot: with too small a budget the split is undecided,
+	// and says what it learned; the same budget gives the same result.
+	d := readDataset(t, "iris.csv", "species")
+	full, err := Check(context.Background(), d, CheckOptions{Space: Raw, Split: [2]string{"versicolor", Rest}, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	needed := full.Splits[0].Pivots
+	if full.Splits[0].Verdict != NotSeparable || needed < 2 {
+		t.Fatalf("verdict %s after %d pivots, want not separable after at least 2", full.Splits[0].Verdict, needed)
+	}
+	short := CheckOptions{Space: Raw, Split: [2]string{"versicolor", Rest}, Seed: 1, Budget: needed - 1}
+	a, err := Check(context.Background(), d, short)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := a.Splits[0]
+	if s.Verdict != OutOfBudget || s.Separable != nil || s.Certificate != nil || s.Pivots != needed-1 {
+		t.Fatalf("split %+v, want undecided (budget) after %d pivots, no proof", s, needed-1)
+	}
+	for _, phrase := range []string{"budget of", "--budget", "misplaces", "apart (L1 norm"} {
+		if !strings.Contains(s.Reason, phrase) {
+			t.Errorf("reason %q does not say %q", s.Reason, phrase)
+		}
+	}
+	b, _ := Check(context.Background(), d, short)
+	if b.Splits[0].Reason != s.Reason {
+		t.Errorf("the same budget gave %q, then %q", s.Reason, b.Splits[0].Reason)
+	}
+	exactly, _ := Check(context.Background(), d, CheckOptions{Space: Raw, Split: [2]string{"versicolor", Rest}, Seed: 1, Budget: needed})
+	if exactly.Splits[0].Verdict != NotSeparable {
+		t.Errorf("with a budget of exactly %d pivots: %s", needed, exactly.Splits[0].Verdict)
+	}
+}
+
+func TestTimeout(t *testing.T) {
+	// A context that has ended: every split not settled by a pattern on
+	// both sides is undecided (timeout), with no proof.
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	d := readDataset(t, "iris.csv", "species")
+	r, err := Check(ctx, d, CheckOptions{Space: Raw, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range r.Splits {
+		if s.Verdict != OutOfTime || s.Separable != nil {
+			t.Errorf("%s: %s, want undecided (timeout)", s.Positive, s.Verdict)
+		}
+	}
+}
+
+func TestSplitChoice(t *testing.T) {
+	d := readDataset(t, "iris.csv", "species")
+	for _, tc := range []struct {
+		name     string
+		opts     CheckOptions
+		want     [][2]string
+		err      string
+		verdicts []Verdict
+	}{
+		// UCI iris.names: versicolor and virginica are not separable.
+		{"one pair", CheckOptions{Split: [2]string{"versicolor", "virginica"}}, [][2]string{{"versicolor", "virginica"}}, "", []Verdict{NotSeparable}},
+		{"one against the rest", CheckOptions{Split: [2]string{"setosa", Rest}}, [][2]string{{"setosa", Rest}}, "", []Verdict{Separable}},
+		{"positive turns a pair", CheckOptions{Split: [2]string{"versicolor", "virginica"}, Positive: "virginica"}, [][2]string{{"virginica", "versicolor"}}, "", nil},
+		{"positive in the pairs", CheckOptions{Pairs: true, Positive: "virginica"}, [][2]string{
+			{"setosa", Rest}, {"versicolor", Rest}, {"virginica", Rest}, {"setosa", "versicolor"}, {"virginica", "setosa"}, {"virginica", "versicolor"}}, "", nil},
+		{"unknown class", CheckOptions{Split: [2]string{"rose", Rest}}, nil, `"rose" is not a class of species`, nil},
+		{"same class twice", CheckOptions{Split: [2]string{"setosa", "setosa"}}, nil, "same class on both sides", nil},
+		{"positive not a side", CheckOptions{Split: [2]string{"setosa", "versicolor"}, Positive: "virginica"}, nil, "not a side", nil},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			tc.opts.Space, tc.opts.Seed = Raw, 1
+			r, err := Check(context.Background(), d, tc.opts)
+			if tc.err != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.err) {
+					t.Fatalf("error %v, want one saying %q", err, tc.err)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			var got [][2]string
+			for i, s := range r.Splits {
+				got = append(got, [2]string{s.Positive, s.Negative})
+				if tc.verdicts != nil && s.Verdict != tc.verdicts[i] {
+					t.Errorf("%s against %s: %s, want %s", s.Positive, s.Negative, s.Verdict, tc.verdicts[i])
+				}
+			}
+			if !slices.Equal(got, tc.want) {
+				t.Errorf("splits %v, want %v", got, tc.want)
+			}
+		})
+	}
+	t.Run("two classes", func(t *testing.T) {
+		// xor.csv: labels 0 and 1; by default 1 is positive.
+		xor := readDataset(t, "xor.csv", "y")
+		for positive, want := range map[string]string{"": "1", "1": "1", "0": "0"} {
+			r, err := Check(context.Background(), xor, CheckOptions{Positive: positive})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if s := r.Splits[0]; s.Positive != want || len(r.Splits) != 1 {
+				t.Errorf("--positive %q: %s against %s, want %s positive", positive, s.Positive, s.Negative, want)
+			}
+		}
+	})
+}
+
+func TestMissingDrop(t *testing.T) {
+	// Worked by hand: rows 2 and 4 have a missing x; with MissingDrop they
+	// are left out, the other rows keep their numbers, and the mean and sd
+	// are those of rows 1, 3, 5, 6 (x = 1, 3, 5, 6: mean 3.75).
+	table := handTable(6,
+		&tabular.Column{Name: "x", Kind: tabular.Numeric, Numbers: []float64{1, 0, 3, 0, 5, 6}, Missing: []bool{false, true, false, true, false, false}},
+		&tabular.Column{Name: "y", Kind: tabular.Categorical, Text: []string{"a", "b", "a", "a", "b", "b"}},
+	)
+	d, err := tabular.NewDataset(table, "y", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Check(context.Background(), d, CheckOptions{Space: Raw}); err == nil || !strings.Contains(err.Error(), "--missing drop") {
+		t.Fatalf("refusing: error %v, want one suggesting --missing drop", err)
+	}
+	r, err := Check(context.Background(), d, CheckOptions{Space: Raw, Missing: MissingDrop})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Dropped.Count != 2 || !slices.Equal(r.Dropped.Rows, []int{2, 4}) {
+		t.Errorf("dropped %+v, want rows 2 and 4", r.Dropped)
+	}
+	if len(r.Scales) != 1 || r.Scales[0].Mean != 3.75 {
+		t.Errorf("scales %+v, want the mean of 1, 3, 5, 6 (3.75)", r.Scales)
+	}
+	// x ≤ 3 is class a (rows 1, 3), x ≥ 5 class b (rows 5, 6): separable,
+	// checked on the 4 rows kept.
+	s := r.Splits[0]
+	if s.Verdict != Separable || s.Rows != 4 || s.Witness.Rows != 4 {
+		t.Errorf("split %+v, want separable on 4 rows", s)
+	}
+	if _, err := Check(context.Background(), d, CheckOptions{Missing: MissingDrop}); err == nil {
+		t.Error("MissingDrop in the encoded space: no error")
+	}
+}
+
+func TestCertificateReduction(t *testing.T) {
+	// Hand algebra: in one dimension, 0 and 2 (positive) and 1 (negative):
+	// ½·0 + ½·2 = 1. Padding the positive side with 0.5 and 1.5 at weights
+	// that keep the mean at 1 gives a valid certificate of 5 rows whose
+	// columns are dependent; the reduction must leave an independent
+	// support of at most inputs + 2 = 3 rows, still valid.
+	p := Points{Width: 1, Values: []float64{0, 2, 0.5, 1.5, 1}}
+	big := &Certificate{Rows: []int{1, 2, 3, 4, 5}, Positive: []bool{true, true, true, true, false}, Weights: []float64{0.25, 0.25, 0.25, 0.25, 1}}
+	if _, err := VerifyCertificate(p, []int{0, 1, 2, 3}, []int{4}, big); err != nil {
+		t.Fatalf("the padded certificate: %v", err)
+	}
+	c := reduceCertificate(p, []int{0}, big)
+	if len(c.Rows) > 3 || !c.Minimal {
+		t.Fatalf("reduced to rows %v (minimal %v), want at most 3, minimal", c.Rows, c.Minimal)
+	}
+	if _, err := VerifyCertificate(p, []int{0, 1, 2, 3}, []int{4}, c); err != nil {
+		t.Errorf("the reduced certificate %+v: %v", c, err)
+	}
+}
+
+func TestProgress(t *testing.T) {
+	// Each split is announced, then reported with its result, in order.
+	d := readDataset(t, "iris.csv", "species")
+	var events []string
+	_, err := Check(context.Background(), d, CheckOptions{Space: Raw, Seed: 1, Progress: func(p Progress) {
+		state := "start"
+		if p.Result != nil {
+			state = string(p.Result.Verdict)
+		}
+		events = append(events, fmt.Sprintf("%d/%d %s %s", p.Index+1, p.Total, p.Positive, state))
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// UCI iris.names: setosa separable, the other two not.
+	want := []string{"1/3 setosa start", "1/3 setosa separable", "2/3 versicolor start", "2/3 versicolor not separable", "3/3 virginica start", "3/3 virginica not separable"}
+	if !slices.Equal(events, want) {
+		t.Errorf("events %v, want %v", events, want)
+	}
 }

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
@@ -61,6 +62,8 @@ const (
 	dualTolerance   = 1e-9  // a reduced cost above −this is optimal
 	pivotTolerance  = 1e-7  // the smallest pivot element taken
 	refactorEvery   = 100   // most pivots between recomputations of B⁻¹
+	driftTolerance  = 1e-9  // the most drift of B⁻¹ kept (see drift)
+	devexReset      = 1e6   // the largest Devex weight before they restart at 1
 	contextEvery    = 32    // pivots between looks at the context
 	perturbation    = 1e-7  // size of the right-hand side perturbation
 	unboundedLimit  = 1e300 // a step this long means the program is unbounded
@@ -264,10 +267,31 @@ func (s *simplex) pivot(q, r int, dq, step float64) error {
 	s.basis[r], s.position[q] = q, r
 	s.work.pivots++
 	s.sinceFactor++
-	if s.sinceFactor >= refactorEvery {
+	if s.sinceFactor >= refactorEvery || s.drift(s.work.pivots%m) > driftTolerance {
 		return s.factor()
 	}
 	return nil
+}
+
+// drift is how far B⁻¹ times the basic column at position i is from the
+// unit vector e_i. Product-form updates multiply the rounding errors
+// already in B⁻¹ by up to max|α|/|α_r| each, which on ill-conditioned
+// 0/1 bases can grow them to order 1 within a few dozen pivots; one
+// column a pivot, in turn, shows the drift long before then.
+func (s *simplex) drift(i int) float64 {
+	col := s.lp.columns[s.basis[i]]
+	worst := 0.0
+	clear(s.alpha)
+	for t, k := range col.index {
+		floats.AddScaled(s.alpha, col.value[t], s.inverse[k*s.m:(k+1)*s.m])
+	}
+	for k, a := range s.alpha {
+		if k == i {
+			a--
+		}
+		worst = max(worst, math.Abs(a))
+	}
+	return worst
 }
 
 // primal runs the primal simplex to optimality from the current basis,
@@ -283,7 +307,7 @@ func (s *simplex) primal() error {
 	}
 	rho := make([]float64, s.m)
 	for {
-		q, best, dq := -1, 0.0, 0.0
+		q, best, dq := -1, -1.0, 0.0
 		for j := range s.lp.columns {
 			if s.position[j] >= 0 {
 				continue
@@ -340,6 +364,11 @@ func (s *simplex) primal() error {
 			}
 		}
 		s.reference[s.basis[r]] = max(wq/(ar*ar), 1)
+		if slices.Max(s.reference) > devexReset { // a new reference framework
+			for j := range s.reference {
+				s.reference[j] = 1
+			}
+		}
 		if err := s.pivot(q, r, dq, max(s.values[r], 0)/s.alpha[r]); err != nil {
 			return err
 		}
