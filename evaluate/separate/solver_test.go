@@ -319,7 +319,7 @@ func TestCertificatesExactly(t *testing.T) {
 	}
 	iris := readDataset(t, "iris.csv", "species")
 	sources := []source{
-		{"iris raw", iris, Raw, encode.Options{}},        // UCI iris.names: versicolor and virginica overlap
+		{"iris raw", iris, Raw, encode.Options{}},         // UCI iris.names: versicolor and virginica overlap
 		{"iris encoded", iris, Encoded, encode.Options{}}, // the same data, thermometer:8
 		{"xor encoded", readDataset(t, "xor.csv", "y"), Encoded, encode.Options{}},
 	}
