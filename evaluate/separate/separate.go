@@ -64,12 +64,14 @@ func (v Verdict) Decided() bool { return v == Separable || v == NotSeparable }
 const MaxInputs = 512
 
 // DefaultBudget is the default number of simplex pivots one split may
-// spend. A pivot costs about m² multiply-adds for m inputs (0.3 ms at 512
-// on the machine of BenchmarkSeparateDegenerate), so the default bounds a
-// split at a few seconds even at the input cap; the splits of the open
-// datasets in testdata/open took at most about 2100 pivots (mlc_churn
-// with thermometer:24, 359 inputs).
-const DefaultBudget = 10_000
+// spend. A pivot costs about m² multiply-adds for m varying inputs plus a
+// pass over the working set: about 1 ms at m = 512 on two shared cores
+// (BenchmarkSeparateDegenerate), so the default keeps a split to a few
+// seconds even at the input cap. The splits of the open datasets of
+// testdata/open took at most 400 pivots with the default encoding, and
+// about 2100 with thermometer:24 (mlc_churn, 359 inputs); the degenerate
+// 0/1 split of 2000 rows and 512 inputs of the benchmark needs about 9000.
+const DefaultBudget = 5_000
 
 // ErrEmptySide is returned when a split has no rows on one side.
 var ErrEmptySide = errors.New("separate: a side of the split has no rows")

@@ -84,6 +84,9 @@ type simplex struct {
 	values   []float64 // the basic variables, by position
 	dual     []float64 // π = c_Bᵀ B⁻¹, by row
 	alpha    []float64 // scratch: B⁻¹ a_q
+	// dense and denseInverse are factor's buffers.
+	dense        *mat.Dense
+	denseInverse mat.Dense
 	// reference holds the Devex reference weight of each column.
 	reference   []float64
 	work        *pivotBudget // shared with clones
@@ -128,6 +131,7 @@ func (s *simplex) clone() *simplex {
 	c.dual = append([]float64(nil), s.dual...)
 	c.alpha = make([]float64, s.m)
 	c.reference = append([]float64(nil), s.reference...)
+	c.dense, c.denseInverse = nil, mat.Dense{}
 	return &c
 }
 
@@ -149,14 +153,18 @@ func (s *simplex) syncColumns() {
 // factor recomputes B⁻¹ from the basis, then the basic values and duals.
 func (s *simplex) factor() error {
 	m := s.m
-	b := mat.NewDense(m, m, nil)
+	if s.dense == nil {
+		s.dense = mat.NewDense(m, m, nil)
+	}
+	b := s.dense
+	b.Zero()
 	for k, j := range s.basis {
 		col := s.lp.columns[j]
 		for t, i := range col.index {
 			b.Set(i, k, col.value[t])
 		}
 	}
-	var inv mat.Dense
+	inv := &s.denseInverse
 	if err := inv.Inverse(b); err != nil {
 		var cond mat.Condition
 		if !errors.As(err, &cond) || float64(cond) > 1e14 {
