@@ -32,15 +32,6 @@ func WriteCheckReport(w io.Writer, format Format, r *CheckReport) error {
 	return writeReport(w, format, r, "deltafit check", r.Data, func(p *printer) { p.checkBody(r) })
 }
 
-// classList lists each label with its count: "a 2, b 1".
-func classList(labels []string, counts []int) string {
-	items := make([]string, len(labels))
-	for i, l := range labels {
-		items[i] = fmt.Sprintf("%s %d", l, counts[i])
-	}
-	return strings.Join(items, ", ")
-}
-
 // countList lists each label with its count, "a: 2, b: 1", so that
 // numeric labels cannot be read as counts.
 func countList(labels []string, counts []int) string {
