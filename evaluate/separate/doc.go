@@ -18,7 +18,9 @@
 // against the degeneracy of 0/1 patterns, and a dual cleanup. For large
 // splits the program grows a working set of rows from the rows the last
 // hyperplane misplaced, warm-starting from the last basis. A certificate
-// is reduced to rows whose weights are unique (Carathéodory: at most D+2).
+// is reduced to rows whose weights are unique (Carathéodory: at most D+2),
+// and a smaller one is looked for among the rows nearest its heaviest rows
+// (shrink.go).
 //
 // Work is counted in simplex pivots, never in time: past Options.Budget a
 // split is OutOfBudget, with what was learned. A context that ends makes

@@ -68,9 +68,10 @@ const MaxInputs = 512
 // pass over the working set: about 1 ms at m = 512 on two shared cores
 // (BenchmarkSeparateDegenerate), so the default keeps a split to a few
 // seconds even at the input cap. The splits of the open datasets of
-// testdata/open took at most 400 pivots with the default encoding, and
-// about 2100 with thermometer:24 (mlc_churn, 359 inputs); the degenerate
-// 0/1 split of 2000 rows and 512 inputs of the benchmark needs about 9000.
+// testdata/open took at most 900 pivots with the default encoding (the
+// search for a smaller certificate included), and about 2600 with
+// thermometer:24 (mlc_churn, 359 inputs); the degenerate 0/1 split of
+// 2000 rows and 512 inputs of the benchmark needs about 9000.
 const DefaultBudget = 5_000
 
 // ErrEmptySide is returned when a split has no rows on one side.
@@ -214,7 +215,8 @@ func Separate(ctx context.Context, p Points, positive, negative []int, opts Opti
 		res.Verdict, res.Reason = Undecided, err.Error()
 		return res, nil
 	case cert != nil:
-		res.Verdict, res.Certificate = NotSeparable, reduceCertificate(p, active, cert)
+		cert = shrinkCertificate(ctx, p, active, pos.rows, neg.rows, reduceCertificate(p, active, cert), budget, opts.Seed)
+		res.Verdict, res.Certificate, res.Pivots = NotSeparable, cert, budget.pivots
 		return verified(p, positive, negative, res)
 	}
 	w.Constant = constantInputs(p.Width, active)
