@@ -666,3 +666,33 @@ func TestProgress(t *testing.T) {
 		t.Errorf("events %v, want %v", events, want)
 	}
 }
+
+func TestShrinkCertificate(t *testing.T) {
+	// Worked by hand: in the plane, rows 1-4 are XOR (rows 1, 4 positive at
+	// (0,0), (1,1); rows 2, 3 negative at (0,1), (1,0)), and rows 5-8 an
+	// XOR of side 2 far away. Both halves, and mixed pairs of segments such
+	// as (0,0)-(10,10) against (0,1)-(12,10), are certificates of 4 rows.
+	// Handed an 8-row certificate of both halves, the search must find one
+	// of 4 rows among the nearest rows of the heaviest row.
+	p := Points{Width: 2, Values: []float64{
+		0, 0, 0, 1, 1, 0, 1, 1, // rows 1-4
+		10, 10, 12, 10, 10, 12, 12, 12, // rows 5-8: 5, 8 positive; 6, 7 negative
+	}}
+	pos, neg := []int{0, 3, 4, 7}, []int{1, 2, 5, 6}
+	big := &Certificate{Rows: []int{1, 4, 5, 8, 2, 3, 6, 7}, Positive: []bool{true, true, true, true, false, false, false, false},
+		Weights: []float64{0.3, 0.3, 0.2, 0.2, 0.3, 0.3, 0.2, 0.2}}
+	if _, err := VerifyCertificate(p, pos, neg, big); err != nil {
+		t.Fatalf("the padded certificate: %v", err)
+	}
+	budget := &pivotBudget{limit: 100}
+	c := shrinkCertificate(context.Background(), p, []int{0, 1}, pos, neg, big, budget, 1)
+	if len(c.Rows) > 4 || !c.Minimal {
+		t.Fatalf("rows %v (minimal %v), want at most 4, minimal", c.Rows, c.Minimal)
+	}
+	if _, err := VerifyCertificate(p, pos, neg, c); err != nil {
+		t.Errorf("the smaller certificate %+v: %v", c, err)
+	}
+	if budget.pivots == 0 || budget.pivots > 100 {
+		t.Errorf("%d pivots counted against a budget of 100", budget.pivots)
+	}
+}

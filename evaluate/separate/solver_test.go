@@ -322,6 +322,8 @@ func TestCertificatesExactly(t *testing.T) {
 		{"iris raw", iris, Raw, encode.Options{}},         // UCI iris.names: versicolor and virginica overlap
 		{"iris encoded", iris, Encoded, encode.Options{}}, // the same data, thermometer:8
 		{"xor encoded", readDataset(t, "xor.csv", "y"), Encoded, encode.Options{}},
+		// Open data (testdata/open/PROVENANCE.md): seven numeric columns.
+		{"birthwt raw", readDataset(t, "open/birthwt.csv", "low"), Raw, encode.Options{}},
 	}
 	for seed := uint64(1); seed <= 3; seed++ {
 		sources = append(sources, source{fmt.Sprintf("chemistry-like seed %d", seed), chemistryLike(seed), Encoded, encode.Options{}})
