@@ -98,7 +98,7 @@ inputs), so a pipeline never passes on an unproven split.`,
 	fs.StringVar(&opts.space, "space", string(separate.Encoded), "where to compare rows: encoded (input units) or raw (numeric columns, standardized)")
 	fs.BoolVar(&opts.pairs, "pairs", false, "also check each pair of classes")
 	fs.StringVar(&opts.split, "split", "", `check one split only: "A,B" (class A against class B) or "A,rest"`)
-	fs.StringVar(&opts.positive, "positive", "", "the class that is the positive side of the splits it is in (default: the later label of a pair)")
+	fs.StringVar(&opts.positive, "positive", "", "the class that is the positive side of the splits it is in (default: with two classes the later label, in --pairs the earlier)")
 	fs.StringVar(&opts.missing, "missing", string(separate.MissingRefuse), "raw space, rows with a missing cell: refuse (an error) or drop (left out, counted; rows keep their numbers)")
 	fs.IntVar(&opts.budget, "budget", separate.DefaultBudget, "simplex pivots each split may spend")
 	fs.DurationVar(&opts.timeout, "timeout", 0, "wall-clock limit for the whole check, such as 30s (0: none)")

@@ -68,7 +68,8 @@ type CheckOptions struct {
 	// class, or a class and Rest; the first is the positive side.
 	Split [2]string
 	// Positive, when set, is the class that is the positive side of every
-	// split it is a side of (by default the later label of a pair).
+	// split it is a side of (by default, with two classes the later label,
+	// in the pairs the earlier one).
 	Positive string
 	// Missing is the raw space's policy for missing cells (default
 	// MissingRefuse). The encoded space gives them their own unit.
