@@ -453,7 +453,7 @@ func (p *printer) data(d DataSummary) {
 		encoding = ", not encoded (raw space)"
 	}
 	p.line("data: %s, %s, %s%s", d.Source, count(d.Rows, "row"), count(d.Features, "feature column"), encoding)
-	p.line("target: %s, %d classes (%s)", d.Target, len(d.Labels), classList(d.Labels, d.ClassCounts))
+	p.line("target: %s, %d classes (%s)", d.Target, len(d.Labels), countList(d.Labels, d.ClassCounts))
 }
 
 func (p *printer) cv(r *CVReport) {

@@ -4,27 +4,40 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"os"
 	"strconv"
 	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 
 	"deltafit/evaluate/separate"
 	"deltafit/export"
 	"deltafit/ingest/encode"
+	"deltafit/ingest/tabular"
 )
 
-// exitNotSeparable is check's exit code when --require separable fails.
-const exitNotSeparable = 3
+// check's exit codes when --require separable fails.
+const (
+	exitNotSeparable = 3 // a split is proven not separable
+	exitUndecided    = 4 // none is proven not separable, but one is undecided
+)
 
 type checkOptions struct {
-	input   inputFlags
-	missing missingPolicy
-	learn   learnFlags // the target, --ignore, the encodings and the seed
-	space   string
-	pairs   bool
-	require string
-	format  string
+	input    inputFlags
+	learn    learnFlags // the target, --ignore, the encodings and the seed
+	space    string
+	pairs    bool
+	split    string
+	positive string
+	missing  string
+	budget   int
+	timeout  time.Duration
+	require  string
+	format   string
+	// progress prints a line per split on stderr (set when stderr is a
+	// terminal).
+	progress bool
 }
 
 func newCheckCmd() *cobra.Command {
@@ -33,54 +46,78 @@ func newCheckCmd() *cobra.Command {
 		Use:   "check DATA --target COLUMN [flags]",
 		Short: "Certify whether each class is linearly separable, with rows that prove it",
 		Long: `Check decides, for each class against the rest (and with --pairs each pair of
-classes), whether a hyperplane can split the rows of DATA (a path, or - for
-stdin) without error, in the encoded input units (default) or in the numeric
-columns standardized (--space raw).
+classes; with --split one split), whether a hyperplane can split the rows of
+DATA (a path, or - for stdin) without error, in the encoded input units
+(default) or in the numeric columns standardized (--space raw).
 
-Not separable: it prints a certificate, a few rows from each side with
+Not separable: it prints a certificate, rows from each side with
 non-negative weights summing to 1 per side whose weighted means coincide, so
 the convex hulls of the sides meet and no single layer can separate them.
-Separable: it prints a witness hyperplane (weights, bias) with its margin.
+The certificate is reduced to a minimal support (at most the inputs plus 2
+rows) and printed with each row's values and the common point of the hulls.
+Separable: it prints a witness hyperplane (weights, bias) with its margin,
+the Euclidean distance of the nearest row; in the raw space also in the
+columns' own units, with the means and standard deviations.
 Both are checked row by row on the data before they are printed; one that
 fails the check is reported as "undecided (numerical)" with the reason.
-Above ` + strconv.Itoa(separate.MaxInputs) + ` inputs (coordinates) the exact program is not solved, as
-its time grows about as the fourth power of the inputs: each split is
-"undecided (too many inputs)", unless a pattern on both sides proves it not
-separable. Use fewer columns, --numeric zscore or threshold, a smaller
-thermometer:K, or --space raw. The raw space names the columns it leaves out.
+
+The solver's work is counted in simplex pivots: each split may spend
+--budget pivots (default ` + strconv.Itoa(separate.DefaultBudget) + `), so the same data gives the same
+report on any machine. A split that runs out is "undecided (budget)", with
+what was learned so far; --timeout adds a wall-clock limit ("undecided
+(timeout)"), which makes the result depend on the machine. More than
+` + strconv.Itoa(separate.MaxInputs) + ` inputs varying on a split's rows are "undecided (too many inputs)".
 
 It also reports conflicting rows (identical inputs, different classes) with
 the error floor they impose on any classifier, and a profile of the data:
 class counts and imbalance, constant columns, missing cells, categorical
-cardinalities, single columns that split a class off on their own, and
+cardinalities, single columns that alone split a class from the rest, and
 duplicate rows (same features and class), which cross-validation may put on
-both sides of a fold.
+both sides of a fold. On a terminal, a line per split goes to stderr.
 ` + exitStatusHelp + `
-With --require separable: 3 when any split is not proven separable (not
-separable, or undecided).`,
+With --require separable: 3 when a split is proven not separable; 4 when
+none is, but a split is undecided (budget, timeout, numerical or too many
+inputs), so a pipeline never passes on an unproven split.`,
 		Example: `  deltafit check testdata/iris.csv --target species --space raw --pairs
-  deltafit check testdata/xor.csv --target y --require separable || echo "needs a hidden layer"
+  deltafit check testdata/iris.csv --target species --split versicolor,virginica
+  deltafit check testdata/xor.csv --target y --require separable || echo "not proven separable"
   deltafit check runs.csv --target outcome --ignore run_id --format json | jq '.splits[].separable'`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.progress = isTerminal(cmd.ErrOrStderr())
 			return runCheck(cmd.Context(), opts, args[0], cmd.InOrStdin(), cmd.OutOrStdout(), cmd.ErrOrStderr())
 		},
 	}
 	opts.input.add(cmd.Flags())
-	opts.missing.add(cmd.Flags())
 	opts.learn.add(cmd)
-	cmd.Flags().Lookup("seed").Usage = "seed of the order in which the solver takes rows into its working set"
+	cmd.Flags().Lookup("seed").Usage = "seed of the error-correction passes and of the solver's perturbation"
 	for _, name := range []string{"rule", "unit", "epochs", "rate"} {
 		_ = cmd.Flags().MarkHidden(name) // training flags: check trains nothing
 	}
-	cmd.Flags().StringVar(&opts.space, "space", string(separate.Encoded), "where to compare rows: encoded (input units) or raw (numeric columns, standardized)")
-	cmd.Flags().BoolVar(&opts.pairs, "pairs", false, "also check each pair of classes")
-	cmd.Flags().StringVar(&opts.require, "require", "", `"separable": exit 3 unless every split is proven separable`)
-	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
+	fs := cmd.Flags()
+	fs.StringVar(&opts.space, "space", string(separate.Encoded), "where to compare rows: encoded (input units) or raw (numeric columns, standardized)")
+	fs.BoolVar(&opts.pairs, "pairs", false, "also check each pair of classes")
+	fs.StringVar(&opts.split, "split", "", `check one split only: "A,B" (class A against class B) or "A,rest"`)
+	fs.StringVar(&opts.positive, "positive", "", "the class that is the positive side of the splits it is in (default: with two classes the later label, in --pairs the earlier)")
+	fs.StringVar(&opts.missing, "missing", string(separate.MissingRefuse), "raw space, rows with a missing cell: refuse (an error) or drop (left out, counted; rows keep their numbers)")
+	fs.IntVar(&opts.budget, "budget", separate.DefaultBudget, "simplex pivots each split may spend")
+	fs.DurationVar(&opts.timeout, "timeout", 0, "wall-clock limit for the whole check, such as 30s (0: none)")
+	fs.StringVar(&opts.require, "require", "", `"separable": exit 3 (or 4) unless every split is proven separable`)
+	fs.StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	return cmd
 }
 
-func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
+// isTerminal reports whether w is a character device, such as a terminal.
+func isTerminal(w io.Writer) bool {
+	f, ok := w.(*os.File)
+	if !ok {
+		return false
+	}
+	info, err := f.Stat()
+	return err == nil && info.Mode()&os.ModeCharDevice != 0
+}
+
+func runCheck(ctx context.Context, opts checkOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
 	format, err := reportFormat(opts.format)
 	if err != nil {
 		return err
@@ -89,11 +126,35 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 	if err != nil {
 		return usagef("--space: %v", err)
 	}
+	missing, err := separate.ParseMissing(opts.missing)
+	if err != nil {
+		return usagef("--missing: %v", err)
+	}
+	if missing == separate.MissingDrop && space != separate.Raw {
+		return usagef("--missing drop is for --space raw; the encoded space gives a column's missing cells their own unit")
+	}
 	if opts.require != "" && opts.require != "separable" {
 		return usagef(`--require %q: the only requirement is "separable"`, opts.require)
 	}
-	learner, d, sha, err := loadDataset(opts.input, opts.learn, opts.missing, path, stdin, stderr)
+	if opts.budget < 1 {
+		return usagef("--budget %d: give a positive number of pivots", opts.budget)
+	}
+	if opts.timeout < 0 {
+		return usagef("--timeout %v: give a positive duration, or 0 for none", opts.timeout)
+	}
+	var split [2]string
+	if opts.split != "" {
+		a, b, ok := strings.Cut(opts.split, ",")
+		if !ok || a == "" || b == "" || strings.Contains(b, ",") {
+			return usagef(`--split %q: write "A,B" for class A against class B, or "A,rest"`, opts.split)
+		}
+		split = [2]string{a, b}
+	}
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, nil, path, stdin, stderr)
 	if err != nil {
+		return err
+	}
+	if err := checkLabels(d, opts.positive, split); err != nil {
 		return err
 	}
 	if learner.Plan.Numeric.Method == encode.Auto {
@@ -101,7 +162,17 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 		// thermometer units.
 		learner.Plan.Numeric = encode.AutoCandidates(learner.Plan.Numeric)[1]
 	}
-	report, err := separate.Check(d, separate.CheckOptions{Space: space, Plan: learner.Plan, Pairs: opts.pairs, Seed: opts.learn.seed})
+	if opts.timeout > 0 {
+		var cancel context.CancelFunc
+		ctx, cancel = context.WithTimeout(ctx, opts.timeout)
+		defer cancel()
+	}
+	checkOpts := separate.CheckOptions{Space: space, Plan: learner.Plan, Pairs: opts.pairs, Split: split, Positive: opts.positive,
+		Missing: missing, Seed: opts.learn.seed, Budget: opts.budget}
+	if opts.progress {
+		checkOpts.Progress = progressPrinter(stderr)
+	}
+	report, err := separate.Check(ctx, d, checkOpts)
 	if err != nil {
 		return err
 	}
@@ -113,14 +184,60 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 	if opts.require == "" {
 		return nil
 	}
-	var failed []string
-	for _, s := range report.Splits {
-		if s.Verdict != separate.Separable {
-			failed = append(failed, fmt.Sprintf("%s against %s (%s)", s.Positive, s.Negative, s.Verdict))
+	return requireSeparable(report.Splits)
+}
+
+// checkLabels turns an unknown class in --positive or --split into a usage
+// error listing the classes.
+func checkLabels(d *tabular.Dataset, positive string, split [2]string) error {
+	known := func(label string) bool {
+		for _, l := range d.Labels {
+			if l == label {
+				return true
+			}
+		}
+		return false
+	}
+	for _, c := range []struct{ flag, label string }{{"--positive", positive}, {"--split", split[0]}, {"--split", split[1]}} {
+		if c.label != "" && c.label != separate.Rest && !known(c.label) {
+			return usagef("%s: %q is not a class of %s; the classes are %s", c.flag, c.label, d.Target, strings.Join(d.Labels, ", "))
 		}
 	}
-	if len(failed) > 0 {
-		return exitCodeError{code: exitNotSeparable, msg: "--require separable: " + strings.Join(failed, ", ")}
+	if split[0] == separate.Rest {
+		return usagef(`--split: "rest" can only be the second side, as in "A,rest"`)
 	}
 	return nil
+}
+
+// requireSeparable is the gate: nil when every split is proven separable.
+func requireSeparable(splits []separate.Split) error {
+	var failed []string
+	code := exitUndecided
+	for _, s := range splits {
+		if s.Verdict == separate.Separable {
+			continue
+		}
+		if s.Verdict == separate.NotSeparable {
+			code = exitNotSeparable
+		}
+		failed = append(failed, fmt.Sprintf("%s against %s (%s)", s.Positive, s.Negative, s.Verdict))
+	}
+	if len(failed) == 0 {
+		return nil
+	}
+	return exitCodeError{code: code, msg: "--require separable: " + strings.Join(failed, ", ")}
+}
+
+// progressPrinter writes a line on w as each split starts and ends.
+func progressPrinter(w io.Writer) func(separate.Progress) {
+	var started time.Time
+	return func(p separate.Progress) {
+		name := fmt.Sprintf("check: split %d of %d, %s against %s", p.Index+1, p.Total, p.Positive, p.Negative)
+		if p.Result == nil {
+			started = time.Now()
+			fmt.Fprintf(w, "%s …\n", name)
+			return
+		}
+		fmt.Fprintf(w, "%s: %s (%d pivots, %.1f s)\n", name, p.Result.Verdict, p.Result.Pivots, time.Since(started).Seconds())
+	}
 }

@@ -155,7 +155,7 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if opts.repeats < 1 || (opts.repeats > 1 && opts.folds == 0) {
 		return usagef("--repeats %d: give at least 1, and more than 1 only with --folds", opts.repeats)
 	}
-	learner, d, sha, err := loadDataset(opts.input, opts.learn, opts.missing, path, stdin, stderr)
+	learner, d, sha, err := loadDataset(opts.input, opts.learn, &opts.missing, path, stdin, stderr)
 	if err != nil {
 		return err
 	}
@@ -181,13 +181,15 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 
 // loadDataset checks the encoding and training flags, then reads the data
 // and picks its target, returning the sha256 of the bytes read.
-func loadDataset(input inputFlags, learn learnFlags, missing missingPolicy, path string, stdin io.Reader, stderr io.Writer) (evaluate.Learner, *tabular.Dataset, string, error) {
+func loadDataset(input inputFlags, learn learnFlags, missing *missingPolicy, path string, stdin io.Reader, stderr io.Writer) (evaluate.Learner, *tabular.Dataset, string, error) {
 	learner, err := learn.learner()
 	if err != nil {
 		return learner, nil, "", err
 	}
-	if err := missing.check(); err != nil {
-		return learner, nil, "", err
+	if missing != nil {
+		if err := missing.check(); err != nil {
+			return learner, nil, "", err
+		}
 	}
 	readOpts, err := input.readOptions()
 	if err != nil {
@@ -198,7 +200,7 @@ func loadDataset(input inputFlags, learn learnFlags, missing missingPolicy, path
 	if err != nil {
 		return learner, nil, "", err
 	}
-	if table.Column(learn.target) != nil {
+	if missing != nil && table.Column(learn.target) != nil {
 		table = missing.apply(table, learn.target, learn.ignore, stderr)
 	}
 	d, err := tabular.NewDataset(table, learn.target, learn.ignore)

@@ -2,8 +2,6 @@ package separate
 
 import (
 	"slices"
-
-	"deltafit/fit"
 )
 
 // Conflicts are groups of rows with identical patterns but different
@@ -31,49 +29,54 @@ type ConflictGroup struct {
 
 // FindConflicts groups the rows of p by pattern and reports the groups
 // holding more than one class, listing at most the first most of them.
-// classes are the class indexes of the rows, into labels.
-func FindConflicts(p fit.Store, classes []int, labels []string, most int) Conflicts {
-	n := len(classes)
+// classes are the class indexes of the rows, into labels; keep, when not
+// nil, marks the rows to look at (the others are left out).
+func FindConflicts(p Points, classes []int, labels []string, keep []bool, most int) Conflicts {
 	c := Conflicts{Groups: []ConflictGroup{}}
+	var rows []int
+	for r := range classes {
+		if keep == nil || keep[r] {
+			rows = append(rows, r)
+		}
+	}
 	counts := make([]int, len(labels))
-	buf := make([]float64, p.Inputs())
-	for _, rows := range groupRows(n, func(r int) string {
-		if p.Inputs() == 0 {
+	for _, group := range groupRows(rows, func(r int) string {
+		if p.Width == 0 {
 			return ""
 		}
-		return patternKey(p.RowTo(buf, r))
+		return patternKey(p.Row(r))
 	}) {
 		clear(counts)
-		for _, r := range rows {
+		for _, r := range group {
 			counts[classes[r]]++
 		}
-		if slices.Max(counts) == len(rows) {
+		if slices.Max(counts) == len(group) {
 			continue
 		}
 		c.Count++
-		c.Rows += len(rows)
-		c.MinErrors += len(rows) - slices.Max(counts)
+		c.Rows += len(group)
+		c.MinErrors += len(group) - slices.Max(counts)
 		if len(c.Groups) < most {
 			g := ConflictGroup{}
-			for _, r := range rows {
+			for _, r := range group {
 				g.Rows = append(g.Rows, r+1)
 				g.Labels = append(g.Labels, labels[classes[r]])
 			}
 			c.Groups = append(c.Groups, g)
 		}
 	}
-	if n > 0 {
-		c.ErrorFloor = float64(c.MinErrors) / float64(n)
+	if len(rows) > 0 {
+		c.ErrorFloor = float64(c.MinErrors) / float64(len(rows))
 	}
 	return c
 }
 
-// groupRows groups the rows 0..n-1 by key, in order of each group's first
+// groupRows groups rows (ascending) by key, in order of each group's first
 // row, each group's rows ascending.
-func groupRows(n int, key func(row int) string) [][]int {
+func groupRows(rows []int, key func(row int) string) [][]int {
 	index := map[string]int{}
 	var groups [][]int
-	for r := 0; r < n; r++ {
+	for _, r := range rows {
 		k := key(r)
 		g, seen := index[k]
 		if !seen {

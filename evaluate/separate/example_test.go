@@ -1,22 +1,22 @@
 package separate_test
 
 import (
+	"context"
 	"fmt"
 
 	"deltafit/evaluate/separate"
-	"deltafit/fit"
 )
 
 // The exclusive-or of two inputs: the rows where exactly one input is on
 // (rows 2 and 3) against the others (rows 1 and 4).
 func ExampleSeparate() {
-	xor := fit.Patterns{Width: 2, Values: []float64{
+	xor := separate.Points{Width: 2, Values: []float64{
 		0, 0,
 		0, 1,
 		1, 0,
 		1, 1,
 	}}
-	res, err := separate.Separate(xor, []int{1, 2}, []int{0, 3}, separate.Options{Seed: 1})
+	res, err := separate.Separate(context.Background(), xor, []int{1, 2}, []int{0, 3}, separate.Options{Seed: 1})
 	if err != nil {
 		fmt.Println(err)
 		return
@@ -39,8 +39,8 @@ func ExampleSeparate() {
 // The conjunction of two inputs is separable; the witness is checked on
 // every row before it is returned.
 func ExampleSeparate_witness() {
-	and := fit.Patterns{Width: 2, Values: []float64{0, 0, 0, 1, 1, 0, 1, 1}}
-	res, err := separate.Separate(and, []int{3}, []int{0, 1, 2}, separate.Options{Seed: 1})
+	and := separate.Points{Width: 2, Values: []float64{0, 0, 0, 1, 1, 0, 1, 1}}
+	res, err := separate.Separate(context.Background(), and, []int{3}, []int{0, 1, 2}, separate.Options{Seed: 1})
 	if err != nil {
 		fmt.Println(err)
 		return
@@ -50,5 +50,5 @@ func ExampleSeparate_witness() {
 	fmt.Printf("weights %.2f bias %.2f margin %.3f\n", w.Weights, w.Bias, w.Margin)
 	// Output:
 	// separable 4 rows checked
-	// weights [1.00 1.00] bias -1.50 margin 0.354
+	// weights [2.00 2.00] bias -3.00 margin 0.354
 }

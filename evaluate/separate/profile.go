@@ -23,8 +23,9 @@ type Profile struct {
 	// Cardinality lists the distinct present values of each categorical
 	// feature column.
 	Cardinality []ColumnCount `json:"categorical_cardinality"`
-	// Separators are single columns that split one class from all the
-	// others on their own: leakage suspects.
+	// Separators are single columns that alone split one class from the
+	// rest on every row: what was measured, not a judgement (a column can
+	// be a legitimately strong feature, or carry the target by mistake).
 	Separators []Separator `json:"single_column_separators"`
 	// DuplicateRows counts the rows that repeat an earlier row: the same
 	// value in every feature column (missing matching missing) and the same
@@ -49,15 +50,23 @@ type ColumnCount struct {
 	Count  int    `json:"count"`
 }
 
-// Separator is a column that splits a class from the rest by itself.
+// Separator is a column that alone splits a class from the rest.
 type Separator struct {
 	Column string `json:"column"`
 	Class  string `json:"class"`
-	// How: "threshold" (numeric or boolean: one cut puts the class on one
-	// side and every other row on the other) or "values" (categorical: no
-	// value, missing counted as a value, occurs both in the class and in
-	// the rest).
+	// How: "threshold" (numeric or boolean: every row of the class lies on
+	// one side of a cut and every other row on the other) or "values"
+	// (categorical: no value, missing counted as a value, occurs both in
+	// the class and in the rest).
 	How string `json:"how"`
+	// Rows is the number of rows the split holds on: all of them.
+	Rows int `json:"rows"`
+	// ClassBelow tells, for a threshold, whether the class is on the low
+	// side; ClassEdge is the class's value nearest the cut and RestEdge
+	// the rest's (ClassEdge < RestEdge when ClassBelow).
+	ClassBelow bool    `json:"class_below,omitempty"`
+	ClassEdge  float64 `json:"class_edge,omitempty"`
+	RestEdge   float64 `json:"rest_edge,omitempty"`
 }
 
 // NewProfile profiles the target and the feature columns of d, listing at
@@ -92,12 +101,13 @@ func NewProfile(d *tabular.Dataset, most int) Profile {
 			p.Cardinality = append(p.Cardinality, ColumnCount{Column: col.Name, Count: len(distinct)})
 		}
 		for k, label := range d.Labels {
-			if how := separates(col, d.Classes, k); how != "" {
-				p.Separators = append(p.Separators, Separator{Column: col.Name, Class: label, How: how})
+			if s, ok := separates(col, d.Classes, k); ok {
+				s.Column, s.Class, s.Rows = col.Name, label, len(d.Classes)
+				p.Separators = append(p.Separators, s)
 			}
 		}
 	}
-	for _, rows := range groupRows(d.Table.Rows, func(r int) string { return rowKey(d, r) }) {
+	for _, rows := range groupRows(allRows(d.Table.Rows), func(r int) string { return rowKey(d, r) }) {
 		if len(rows) == 1 {
 			continue
 		}
@@ -129,9 +139,9 @@ func rowKey(d *tabular.Dataset, r int) string {
 	return b.String()
 }
 
-// separates reports how col splits class k from the other rows on its
-// own, or "" when it does not.
-func separates(col *tabular.Column, classes []int, k int) string {
+// separates reports whether col alone splits class k from the other
+// rows, and how.
+func separates(col *tabular.Column, classes []int, k int) (Separator, bool) {
 	if col.Kind == tabular.Categorical {
 		inClass, inRest := map[string]bool{}, map[string]bool{}
 		for r, c := range classes {
@@ -147,13 +157,13 @@ func separates(col *tabular.Column, classes []int, k int) string {
 		}
 		for v := range inClass {
 			if inRest[v] {
-				return ""
+				return Separator{}, false
 			}
 		}
-		return "values"
+		return Separator{How: "values"}, true
 	}
 	if col.MissingCount() > 0 {
-		return ""
+		return Separator{}, false
 	}
 	classLow, classHigh := math.Inf(1), math.Inf(-1)
 	restLow, restHigh := math.Inf(1), math.Inf(-1)
@@ -165,8 +175,20 @@ func separates(col *tabular.Column, classes []int, k int) string {
 			restLow, restHigh = min(restLow, v), max(restHigh, v)
 		}
 	}
-	if classHigh < restLow || classLow > restHigh {
-		return "threshold"
+	switch {
+	case classHigh < restLow:
+		return Separator{How: "threshold", ClassBelow: true, ClassEdge: classHigh, RestEdge: restLow}, true
+	case classLow > restHigh:
+		return Separator{How: "threshold", ClassEdge: classLow, RestEdge: restHigh}, true
 	}
-	return ""
+	return Separator{}, false
+}
+
+// allRows is 0, 1, …, n−1.
+func allRows(n int) []int {
+	rows := make([]int, n)
+	for i := range rows {
+		rows[i] = i
+	}
+	return rows
 }

@@ -1,11 +1,18 @@
 package separate
 
 import (
+	"context"
+	"errors"
 	"fmt"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
 	"strconv"
 	"testing"
 
+	"gonum.org/v1/gonum/optimize/convex/lp"
+
+	"deltafit/ingest"
 	"deltafit/ingest/encode"
 	"deltafit/ingest/tabular"
 )
@@ -51,6 +58,74 @@ func benchDataset(rows, columns int, seed uint64) *tabular.Dataset {
 	return d
 }
 
+// benchCheck runs Check on d once per iteration and reports the pivots of
+// the slowest split and the undecided splits (both the same every run).
+func benchCheck(b *testing.B, d *tabular.Dataset, opts CheckOptions) {
+	b.ReportAllocs()
+	var r *Report
+	for b.Loop() {
+		var err error
+		if r, err = Check(context.Background(), d, opts); err != nil {
+			b.Fatal(err)
+		}
+	}
+	most, undecided := 0, 0
+	for _, s := range r.Splits {
+		most = max(most, s.Pivots)
+		if !s.Verdict.Decided() {
+			undecided++
+		}
+	}
+	b.ReportMetric(float64(most), "pivots/split-max")
+	b.ReportMetric(float64(undecided), "undecided")
+	b.ReportMetric(float64(len(r.Inputs)), "inputs")
+}
+
+// BenchmarkCheckOpen is the default check (encoded space, each class
+// against the rest) and the raw space on Iris and the open datasets.
+func BenchmarkCheckOpen(b *testing.B) {
+	for _, set := range []struct{ file, target string }{
+		{"iris.csv", "species"},
+		{"open/crabs.csv", "species"},
+		{"open/birthwt.csv", "low"},
+		{"open/spam.csv", "type"},
+		{"open/mlc_churn.csv", "churn"},
+	} {
+		path := filepath.Join("..", "..", "testdata", set.file)
+		f, err := os.Open(path)
+		if err != nil {
+			b.Fatal(err)
+		}
+		table, err := ingest.ReadTable(set.file, f, ingest.ReadOptions{})
+		f.Close()
+		if err != nil {
+			b.Fatal(err)
+		}
+		d, err := tabular.NewDataset(table, set.target, nil)
+		if err != nil {
+			b.Fatal(err)
+		}
+		for _, space := range []Space{Encoded, Raw} {
+			b.Run(fmt.Sprintf("data=%s/space=%s", filepath.Base(set.file), space), func(b *testing.B) {
+				benchCheck(b, d, CheckOptions{Space: space, Seed: 1})
+			})
+		}
+	}
+}
+
+// BenchmarkCheckChemistryLike is the full check with every pair of a
+// 214-row, 9-column, 6-class table (chemistryLike) under thermometer
+// encodings of 5 to 8 bins, and the default (8).
+func BenchmarkCheckChemistryLike(b *testing.B) {
+	for _, bins := range []int{5, 6, 7, 8} {
+		for seed := uint64(1); seed <= 3; seed++ {
+			d := chemistryLike(seed)
+			opts := CheckOptions{Pairs: true, Seed: 1, Plan: encode.Options{Numeric: encode.Encoding{Method: encode.Thermometer, Bins: bins}}}
+			b.Run(fmt.Sprintf("thermometer=%d/seed=%d", bins, seed), func(b *testing.B) { benchCheck(b, d, opts) })
+		}
+	}
+}
+
 // BenchmarkCheck runs the full one-against-the-rest check of three classes
 // with 64 inputs: raw, 64 continuous columns; encoded, 8 columns each as
 // 8 thermometer units.
@@ -62,48 +137,55 @@ func BenchmarkCheck(b *testing.B) {
 		}{{Raw, 64}, {Encoded, 8}} {
 			d := benchDataset(rows, tc.columns, 1)
 			opts := CheckOptions{Space: tc.space, Seed: 1, Plan: encode.Options{Numeric: encode.Encoding{Method: encode.Thermometer, Bins: 9}}}
-			b.Run(fmt.Sprintf("rows=%d/inputs=64/classes=3/space=%s", rows, tc.space), func(b *testing.B) {
-				b.ReportAllocs()
-				for b.Loop() {
-					r, err := Check(d, opts)
-					if err != nil {
-						b.Fatal(err)
-					}
-					for _, s := range r.Splits {
-						if s.Verdict == Undecided {
-							b.Fatalf("%s: %s", s.Positive, s.Reason)
-						}
-					}
-				}
-			})
+			b.Run(fmt.Sprintf("rows=%d/inputs=64/classes=3/space=%s", rows, tc.space), func(b *testing.B) { benchCheck(b, d, opts) })
 		}
 	}
 }
 
-// BenchmarkSeparateWidth solves one split, the first class against the
-// rest, of continuous raw columns as the input dimension grows: the cost
-// behind MaxInputs.
-func BenchmarkSeparateWidth(b *testing.B) {
-	for _, rows := range []int{1000, 2000} {
-		for _, inputs := range []int{64, 128, 192, 256} {
-			d := benchDataset(rows, inputs, 1)
-			p, _, _, err := Coordinates(d, Raw, encode.Options{})
-			if err != nil {
-				b.Fatal(err)
-			}
-			pos, neg := split(d.Classes, 0)
-			b.Run(fmt.Sprintf("rows=%d/inputs=%d", rows, inputs), func(b *testing.B) {
-				b.ReportAllocs()
-				for b.Loop() {
-					res, err := Separate(p, pos, neg, Options{Seed: 1, MaxInputs: inputs})
-					if err != nil {
+// BenchmarkSeparateDegenerate solves one split of 0/1 patterns
+// (degeneratePatterns: many ties and repeats, classes overlapping near a
+// threshold on the count of units on) over a grid of rows × inputs ×
+// density, with no pivot budget. solver=gonum solves the same hull program
+// with gonum's lp.Simplex (dense, Bland's rule), which check used before,
+// at the sizes it finishes in reasonable time.
+func BenchmarkSeparateDegenerate(b *testing.B) {
+	for _, rows := range []int{500, 2000} {
+		for _, inputs := range []int{32, 128, 512} {
+			for _, density := range []float64{0.05, 0.3} {
+				p, classes := degeneratePatterns(rows, inputs, density, 1)
+				pos, neg := split(classes, 1)
+				name := fmt.Sprintf("rows=%d/inputs=%d/density=%g", rows, inputs, density)
+				b.Run(name+"/solver=simplex", func(b *testing.B) {
+					b.ReportAllocs()
+					var res *Result
+					for b.Loop() {
+						var err error
+						if res, err = Separate(context.Background(), p, pos, neg, Options{Seed: 1, Budget: -1}); err != nil {
+							b.Fatal(err)
+						}
+						if !res.Verdict.Decided() {
+							b.Fatalf("%s: %s", res.Verdict, res.Reason)
+						}
+					}
+					b.ReportMetric(float64(res.Pivots), "pivots")
+				})
+				if rows*inputs > 500*32 {
+					continue
+				}
+				b.Run(name+"/solver=gonum", func(b *testing.B) {
+					ps, ns := uniquePatterns(p, pos), uniquePatterns(p, neg)
+					h := newHullSearch(context.Background(), p, varying(p, ps.rows, ns.rows), &pivotBudget{}, 1)
+					if err := h.start(ps.rows, ns.rows); err != nil {
 						b.Fatal(err)
 					}
-					if res.Verdict == Undecided {
-						b.Fatal(res.Reason)
+					a, c := h.lp.dense()
+					for b.Loop() {
+						if _, _, err := lp.Simplex(c, a, h.rhs, 1e-10, nil); err != nil && !errors.Is(err, lp.ErrInfeasible) {
+							b.Fatal(err)
+						}
 					}
-				}
-			})
+				})
+			}
 		}
 	}
 }

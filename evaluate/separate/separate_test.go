@@ -1,7 +1,9 @@
 package separate
 
 import (
+	"context"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -10,7 +12,6 @@ import (
 	"strings"
 	"testing"
 
-	"deltafit/fit"
 	"deltafit/ingest"
 	"deltafit/ingest/tabular"
 )
@@ -49,10 +50,10 @@ func split(classes []int, positive int) (pos, neg []int) {
 
 // separateClasses runs Separate on class 1 against class 0 and fails the
 // test unless the verdict is want.
-func separateClasses(t *testing.T, p fit.Patterns, classes []int, want Verdict) *Result {
+func separateClasses(t *testing.T, p Points, classes []int, want Verdict) *Result {
 	t.Helper()
 	pos, neg := split(classes, 1)
-	res, err := Separate(p, pos, neg, Options{Seed: 1})
+	res, err := Separate(context.Background(), p, pos, neg, Options{Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -63,14 +64,14 @@ func separateClasses(t *testing.T, p fit.Patterns, classes []int, want Verdict) 
 }
 
 // truthTable reads the columns x1, x2 of a truth table as they are.
-func truthTable(t *testing.T, name string) (fit.Patterns, []int) {
+func truthTable(t *testing.T, name string) (Points, []int) {
 	d := readDataset(t, name, "y")
 	x1, x2 := d.Table.Column("x1").Numbers, d.Table.Column("x2").Numbers
 	var values []float64
 	for i := range x1 {
 		values = append(values, x1[i], x2[i])
 	}
-	return fit.Patterns{Width: 2, Values: values}, d.Classes
+	return Points{Width: 2, Values: values}, d.Classes
 }
 
 func TestTruthTables(t *testing.T) {
@@ -115,7 +116,7 @@ func TestTruthTables(t *testing.T) {
 
 func TestIrisRawSpace(t *testing.T) {
 	d := readDataset(t, "iris.csv", "species")
-	r, err := Check(d, CheckOptions{Space: Raw, Pairs: true, Seed: 1})
+	r, err := Check(context.Background(), d, CheckOptions{Space: Raw, Pairs: true, Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -151,7 +152,7 @@ func TestIrisRawSpace(t *testing.T) {
 // planted returns n points uniform in [−1,1]^dim labelled by a random
 // hyperplane, keeping only points at least gap from it, and the scores
 // w·x+b of the hyperplane (w of unit length).
-func planted(n, dim int, gap float64, seed uint64) (fit.Patterns, []int, []float64) {
+func planted(n, dim int, gap float64, seed uint64) (Points, []int, []float64) {
 	rng := rand.New(rand.NewPCG(seed, 1))
 	w := make([]float64, dim)
 	norm := 0.0
@@ -163,7 +164,7 @@ func planted(n, dim int, gap float64, seed uint64) (fit.Patterns, []int, []float
 		w[j] /= math.Sqrt(norm)
 	}
 	bias := 0.1
-	p := fit.Patterns{Width: dim}
+	p := Points{Width: dim}
 	var classes []int
 	var scores []float64
 	x := make([]float64, dim)
@@ -258,7 +259,7 @@ func TestNovikoffBound(t *testing.T) {
 // perceptronMistakes trains a threshold unit by error correction, w += y·x̃
 // on each misclassified row, cycling until a pass makes no correction, and
 // returns the number of corrections.
-func perceptronMistakes(p fit.Patterns, classes []int) int {
+func perceptronMistakes(p Points, classes []int) int {
 	w := make([]float64, p.Width+1)
 	mistakes := 0
 	for changed := true; changed; {
@@ -290,7 +291,7 @@ func TestConflicts(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := Check(d, CheckOptions{})
+	r, err := Check(context.Background(), d, CheckOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -322,7 +323,10 @@ func TestProfile(t *testing.T) {
 	// Fisher 1936 data (from memory): setosa petals are 1.0-1.9 long and
 	// 0.1-0.6 wide, the other species' at least 3.0 and 1.0, so each petal
 	// column alone splits setosa off; no sepal column does.
-	want := []Separator{{"petal_length", "setosa", "threshold"}, {"petal_width", "setosa", "threshold"}}
+	want := []Separator{
+		{Column: "petal_length", Class: "setosa", How: "threshold", Rows: 150, ClassBelow: true, ClassEdge: 1.9, RestEdge: 3},
+		{Column: "petal_width", Class: "setosa", How: "threshold", Rows: 150, ClassBelow: true, ClassEdge: 0.6, RestEdge: 1},
+	}
 	if !slices.Equal(p.Separators, want) {
 		t.Errorf("separators %+v, want %+v", p.Separators, want)
 	}
@@ -349,11 +353,11 @@ func TestInputCap(t *testing.T) {
 	}{
 		{"xor raw over the cap", readDataset(t, "xor.csv", "y"), Raw, TooManyInputs, []string{"2 inputs", "cap of 1", "--ignore"}},
 		{"and raw over the cap", readDataset(t, "and.csv", "y"), Raw, TooManyInputs, []string{"2 inputs", "cap of 1", "--ignore"}},
-		{"encoded over the cap", readDataset(t, "or.csv", "y"), Encoded, TooManyInputs, []string{"inputs are over the cap of 1", "--numeric zscore", "thermometer:K", "--space raw"}},
+		{"encoded over the cap", readDataset(t, "or.csv", "y"), Encoded, TooManyInputs, []string{"inputs vary on the rows of the split, over the cap of 1", "--numeric zscore", "thermometer:K", "--space raw"}},
 		{"shared pattern still proves", shared, Encoded, NotSeparable, nil},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			r, err := Check(tc.d, CheckOptions{Space: tc.space, Seed: 1, MaxInputs: 1})
+			r, err := Check(context.Background(), tc.d, CheckOptions{Space: tc.space, Seed: 1, MaxInputs: 1})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -393,7 +397,7 @@ func TestRawSpaceLeftOut(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := Check(d, CheckOptions{Space: Raw})
+	r, err := Check(context.Background(), d, CheckOptions{Space: Raw})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -407,7 +411,7 @@ func TestRawSpaceLeftOut(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, err = Check(d, CheckOptions{Space: Raw})
+		_, err = Check(context.Background(), d, CheckOptions{Space: Raw})
 		if err == nil {
 			t.Fatal("no error")
 		}
@@ -431,7 +435,7 @@ func TestRawSpaceErrorPosition(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Check(d, CheckOptions{Space: Raw})
+	_, err = Check(context.Background(), d, CheckOptions{Space: Raw})
 	var de *tabular.DataError
 	if !errors.As(err, &de) || de.Row != 2 || de.Column != 3 || de.Name != "x" {
 		t.Fatalf("error %v, want a DataError at row 2, column 3 (x)", err)
@@ -471,4 +475,224 @@ func TestDuplicateRows(t *testing.T) {
 			t.Errorf("duplicates %d in %v, want 1 in [[102 143]]", p.DuplicateRows, p.DuplicateGroups)
 		}
 	})
+}
+
+func TestBudget(t *testing.T) {
+	// Iris raw (UCI iris.names): versicolor against the rest is not
+	// separable, and the error-correction passes cannot settle it, so the
+	// simplex must pivot: with too small a budget the split is undecided,
+	// and says what it learned; the same budget gives the same result.
+	d := readDataset(t, "iris.csv", "species")
+	full, err := Check(context.Background(), d, CheckOptions{Space: Raw, Split: [2]string{"versicolor", Rest}, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	needed := full.Splits[0].Pivots
+	if full.Splits[0].Verdict != NotSeparable || needed < 2 {
+		t.Fatalf("verdict %s after %d pivots, want not separable after at least 2", full.Splits[0].Verdict, needed)
+	}
+	short := CheckOptions{Space: Raw, Split: [2]string{"versicolor", Rest}, Seed: 1, Budget: needed - 1}
+	a, err := Check(context.Background(), d, short)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := a.Splits[0]
+	if s.Verdict != OutOfBudget || s.Separable != nil || s.Certificate != nil || s.Pivots != needed-1 {
+		t.Fatalf("split %+v, want undecided (budget) after %d pivots, no proof", s, needed-1)
+	}
+	for _, phrase := range []string{"budget of", "--budget", "misplaces", "apart (L1 norm"} {
+		if !strings.Contains(s.Reason, phrase) {
+			t.Errorf("reason %q does not say %q", s.Reason, phrase)
+		}
+	}
+	b, _ := Check(context.Background(), d, short)
+	if b.Splits[0].Reason != s.Reason {
+		t.Errorf("the same budget gave %q, then %q", s.Reason, b.Splits[0].Reason)
+	}
+	exactly, _ := Check(context.Background(), d, CheckOptions{Space: Raw, Split: [2]string{"versicolor", Rest}, Seed: 1, Budget: needed})
+	if exactly.Splits[0].Verdict != NotSeparable {
+		t.Errorf("with a budget of exactly %d pivots: %s", needed, exactly.Splits[0].Verdict)
+	}
+}
+
+func TestTimeout(t *testing.T) {
+	// A context that has ended: every split not settled by a pattern on
+	// both sides is undecided (timeout), with no proof.
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	d := readDataset(t, "iris.csv", "species")
+	r, err := Check(ctx, d, CheckOptions{Space: Raw, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range r.Splits {
+		if s.Verdict != OutOfTime || s.Separable != nil {
+			t.Errorf("%s: %s, want undecided (timeout)", s.Positive, s.Verdict)
+		}
+	}
+}
+
+func TestSplitChoice(t *testing.T) {
+	d := readDataset(t, "iris.csv", "species")
+	for _, tc := range []struct {
+		name     string
+		opts     CheckOptions
+		want     [][2]string
+		err      string
+		verdicts []Verdict
+	}{
+		// UCI iris.names: versicolor and virginica are not separable.
+		{"one pair", CheckOptions{Split: [2]string{"versicolor", "virginica"}}, [][2]string{{"versicolor", "virginica"}}, "", []Verdict{NotSeparable}},
+		{"one against the rest", CheckOptions{Split: [2]string{"setosa", Rest}}, [][2]string{{"setosa", Rest}}, "", []Verdict{Separable}},
+		{"positive turns a pair", CheckOptions{Split: [2]string{"versicolor", "virginica"}, Positive: "virginica"}, [][2]string{{"virginica", "versicolor"}}, "", nil},
+		{"positive in the pairs", CheckOptions{Pairs: true, Positive: "virginica"}, [][2]string{
+			{"setosa", Rest}, {"versicolor", Rest}, {"virginica", Rest}, {"setosa", "versicolor"}, {"virginica", "setosa"}, {"virginica", "versicolor"}}, "", nil},
+		{"unknown class", CheckOptions{Split: [2]string{"rose", Rest}}, nil, `"rose" is not a class of species`, nil},
+		{"same class twice", CheckOptions{Split: [2]string{"setosa", "setosa"}}, nil, "same class on both sides", nil},
+		{"positive not a side", CheckOptions{Split: [2]string{"setosa", "versicolor"}, Positive: "virginica"}, nil, "not a side", nil},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			tc.opts.Space, tc.opts.Seed = Raw, 1
+			r, err := Check(context.Background(), d, tc.opts)
+			if tc.err != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.err) {
+					t.Fatalf("error %v, want one saying %q", err, tc.err)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			var got [][2]string
+			for i, s := range r.Splits {
+				got = append(got, [2]string{s.Positive, s.Negative})
+				if tc.verdicts != nil && s.Verdict != tc.verdicts[i] {
+					t.Errorf("%s against %s: %s, want %s", s.Positive, s.Negative, s.Verdict, tc.verdicts[i])
+				}
+			}
+			if !slices.Equal(got, tc.want) {
+				t.Errorf("splits %v, want %v", got, tc.want)
+			}
+		})
+	}
+	t.Run("two classes", func(t *testing.T) {
+		// xor.csv: labels 0 and 1; by default 1 is positive.
+		xor := readDataset(t, "xor.csv", "y")
+		for positive, want := range map[string]string{"": "1", "1": "1", "0": "0"} {
+			r, err := Check(context.Background(), xor, CheckOptions{Positive: positive})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if s := r.Splits[0]; s.Positive != want || len(r.Splits) != 1 {
+				t.Errorf("--positive %q: %s against %s, want %s positive", positive, s.Positive, s.Negative, want)
+			}
+		}
+	})
+}
+
+func TestMissingDrop(t *testing.T) {
+	// Worked by hand: rows 2 and 4 have a missing x; with MissingDrop they
+	// are left out, the other rows keep their numbers, and the mean and sd
+	// are those of rows 1, 3, 5, 6 (x = 1, 3, 5, 6: mean 3.75).
+	table := handTable(6,
+		&tabular.Column{Name: "x", Kind: tabular.Numeric, Numbers: []float64{1, 0, 3, 0, 5, 6}, Missing: []bool{false, true, false, true, false, false}},
+		&tabular.Column{Name: "y", Kind: tabular.Categorical, Text: []string{"a", "b", "a", "a", "b", "b"}},
+	)
+	d, err := tabular.NewDataset(table, "y", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Check(context.Background(), d, CheckOptions{Space: Raw}); err == nil || !strings.Contains(err.Error(), "--missing drop") {
+		t.Fatalf("refusing: error %v, want one suggesting --missing drop", err)
+	}
+	r, err := Check(context.Background(), d, CheckOptions{Space: Raw, Missing: MissingDrop})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Dropped.Count != 2 || !slices.Equal(r.Dropped.Rows, []int{2, 4}) {
+		t.Errorf("dropped %+v, want rows 2 and 4", r.Dropped)
+	}
+	if len(r.Scales) != 1 || r.Scales[0].Mean != 3.75 {
+		t.Errorf("scales %+v, want the mean of 1, 3, 5, 6 (3.75)", r.Scales)
+	}
+	// x ≤ 3 is class a (rows 1, 3), x ≥ 5 class b (rows 5, 6): separable,
+	// checked on the 4 rows kept.
+	s := r.Splits[0]
+	if s.Verdict != Separable || s.Rows != 4 || s.Witness.Rows != 4 {
+		t.Errorf("split %+v, want separable on 4 rows", s)
+	}
+	if _, err := Check(context.Background(), d, CheckOptions{Missing: MissingDrop}); err == nil {
+		t.Error("MissingDrop in the encoded space: no error")
+	}
+}
+
+func TestCertificateReduction(t *testing.T) {
+	// Hand algebra: in one dimension, 0 and 2 (positive) and 1 (negative):
+	// ½·0 + ½·2 = 1. Padding the positive side with 0.5 and 1.5 at weights
+	// that keep the mean at 1 gives a valid certificate of 5 rows whose
+	// columns are dependent; the reduction must leave an independent
+	// support of at most inputs + 2 = 3 rows, still valid.
+	p := Points{Width: 1, Values: []float64{0, 2, 0.5, 1.5, 1}}
+	big := &Certificate{Rows: []int{1, 2, 3, 4, 5}, Positive: []bool{true, true, true, true, false}, Weights: []float64{0.25, 0.25, 0.25, 0.25, 1}}
+	if _, err := VerifyCertificate(p, []int{0, 1, 2, 3}, []int{4}, big); err != nil {
+		t.Fatalf("the padded certificate: %v", err)
+	}
+	c := reduceCertificate(p, []int{0}, big)
+	if len(c.Rows) > 3 || !c.Minimal {
+		t.Fatalf("reduced to rows %v (minimal %v), want at most 3, minimal", c.Rows, c.Minimal)
+	}
+	if _, err := VerifyCertificate(p, []int{0, 1, 2, 3}, []int{4}, c); err != nil {
+		t.Errorf("the reduced certificate %+v: %v", c, err)
+	}
+}
+
+func TestProgress(t *testing.T) {
+	// Each split is announced, then reported with its result, in order.
+	d := readDataset(t, "iris.csv", "species")
+	var events []string
+	_, err := Check(context.Background(), d, CheckOptions{Space: Raw, Seed: 1, Progress: func(p Progress) {
+		state := "start"
+		if p.Result != nil {
+			state = string(p.Result.Verdict)
+		}
+		events = append(events, fmt.Sprintf("%d/%d %s %s", p.Index+1, p.Total, p.Positive, state))
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// UCI iris.names: setosa separable, the other two not.
+	want := []string{"1/3 setosa start", "1/3 setosa separable", "2/3 versicolor start", "2/3 versicolor not separable", "3/3 virginica start", "3/3 virginica not separable"}
+	if !slices.Equal(events, want) {
+		t.Errorf("events %v, want %v", events, want)
+	}
+}
+
+func TestShrinkCertificate(t *testing.T) {
+	// Worked by hand: in the plane, rows 1-4 are XOR (rows 1, 4 positive at
+	// (0,0), (1,1); rows 2, 3 negative at (0,1), (1,0)), and rows 5-8 an
+	// XOR of side 2 far away. Both halves, and mixed pairs of segments such
+	// as (0,0)-(10,10) against (0,1)-(12,10), are certificates of 4 rows.
+	// Handed an 8-row certificate of both halves, the search must find one
+	// of 4 rows among the nearest rows of the heaviest row.
+	p := Points{Width: 2, Values: []float64{
+		0, 0, 0, 1, 1, 0, 1, 1, // rows 1-4
+		10, 10, 12, 10, 10, 12, 12, 12, // rows 5-8: 5, 8 positive; 6, 7 negative
+	}}
+	pos, neg := []int{0, 3, 4, 7}, []int{1, 2, 5, 6}
+	big := &Certificate{Rows: []int{1, 4, 5, 8, 2, 3, 6, 7}, Positive: []bool{true, true, true, true, false, false, false, false},
+		Weights: []float64{0.3, 0.3, 0.2, 0.2, 0.3, 0.3, 0.2, 0.2}}
+	if _, err := VerifyCertificate(p, pos, neg, big); err != nil {
+		t.Fatalf("the padded certificate: %v", err)
+	}
+	budget := &pivotBudget{limit: 100}
+	c := shrinkCertificate(context.Background(), p, []int{0, 1}, pos, neg, big, budget, 1)
+	if len(c.Rows) > 4 || !c.Minimal {
+		t.Fatalf("rows %v (minimal %v), want at most 4, minimal", c.Rows, c.Minimal)
+	}
+	if _, err := VerifyCertificate(p, pos, neg, c); err != nil {
+		t.Errorf("the smaller certificate %+v: %v", c, err)
+	}
+	if budget.pivots == 0 || budget.pivots > 100 {
+		t.Errorf("%d pivots counted against a budget of 100", budget.pivots)
+	}
 }

@@ -3,8 +3,6 @@ package separate
 import (
 	"fmt"
 	"math"
-
-	"deltafit/fit"
 )
 
 // This file checks proofs against the data, sharing nothing with the
@@ -21,7 +19,7 @@ const certificateTolerance = 1e-9
 // weights are non-negative and sum to 1 on each side, and the weighted
 // means coincide. It returns the residual ‖Σλx − Σμx‖∞, and an error
 // saying what fails when c is not a valid certificate.
-func VerifyCertificate(p fit.Store, positive, negative []int, c *Certificate) (float64, error) {
+func VerifyCertificate(p Points, positive, negative []int, c *Certificate) (float64, error) {
 	if len(c.Rows) != len(c.Weights) || len(c.Rows) != len(c.Positive) {
 		return 0, fmt.Errorf("separate: certificate has %d rows, %d weights and %d sides", len(c.Rows), len(c.Weights), len(c.Positive))
 	}
@@ -32,8 +30,7 @@ func VerifyCertificate(p fit.Store, positive, negative []int, c *Certificate) (f
 	for _, r := range negative {
 		side[r+1] = false
 	}
-	diff := make([]float64, p.Inputs())
-	buf := make([]float64, p.Inputs())
+	diff := make([]float64, p.Width)
 	var sums [2]float64
 	size := 1.0
 	for i, row := range c.Rows {
@@ -50,7 +47,7 @@ func VerifyCertificate(p fit.Store, positive, negative []int, c *Certificate) (f
 			sign, k = -1, 1
 		}
 		sums[k] += w
-		for j, v := range p.RowTo(buf, row-1) {
+		for j, v := range p.Values[(row-1)*p.Width : row*p.Width] {
 			diff[j] += sign * w * v
 			size = max(size, math.Abs(v))
 		}
@@ -76,9 +73,9 @@ func VerifyCertificate(p fit.Store, positive, negative []int, c *Certificate) (f
 // products, Higham 2002 §3.1). It returns the margin min |w·x+b| / ‖w‖₂
 // and the number of rows checked, and an error naming the first row on the
 // wrong side.
-func VerifyWitness(p fit.Store, positive, negative []int, w *Witness) (margin float64, rows int, err error) {
-	if len(w.Weights) != p.Inputs() {
-		return 0, 0, fmt.Errorf("separate: witness has %d weights for %d inputs", len(w.Weights), p.Inputs())
+func VerifyWitness(p Points, positive, negative []int, w *Witness) (margin float64, rows int, err error) {
+	if len(w.Weights) != p.Width {
+		return 0, 0, fmt.Errorf("separate: witness has %d weights for %d inputs", len(w.Weights), p.Width)
 	}
 	norm := 0.0
 	for _, v := range w.Weights {
@@ -88,13 +85,12 @@ func VerifyWitness(p fit.Store, positive, negative []int, w *Witness) (margin fl
 	if !(norm > 0) || math.IsInf(norm, 0) || math.IsNaN(w.Bias) || math.IsInf(w.Bias, 0) {
 		return 0, 0, fmt.Errorf("separate: witness weights or bias are zero or not finite")
 	}
-	unit := 2 * float64(p.Inputs()+1) * 0x1p-53
-	buf := make([]float64, p.Inputs())
+	unit := 2 * float64(p.Width+1) * 0x1p-53
 	least := math.Inf(1)
 	for k, side := range [][]int{positive, negative} {
 		for _, r := range side {
 			score, bound := w.Bias, math.Abs(w.Bias)
-			for j, v := range p.RowTo(buf, r) {
+			for j, v := range p.Values[r*p.Width : (r+1)*p.Width] {
 				score += w.Weights[j] * v
 				bound += math.Abs(w.Weights[j] * v)
 			}

@@ -1,6 +1,7 @@
 package separate
 
 import (
+	"context"
 	"strings"
 	"testing"
 )
@@ -71,7 +72,7 @@ func TestCheckInputs(t *testing.T) {
 		// Minsky & Papert 1969: XOR is not separable, whatever the monotone
 		// re-encoding of each input.
 		d := readDataset(t, "xor.csv", "y")
-		r, err := Check(d, CheckOptions{Seed: 1})
+		r, err := Check(context.Background(), d, CheckOptions{Seed: 1})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -89,13 +90,13 @@ func TestCheckInputs(t *testing.T) {
 	})
 	t.Run("empty side", func(t *testing.T) {
 		p, _ := truthTable(t, "xor.csv")
-		if _, err := Separate(p, nil, []int{0}, Options{}); err != ErrEmptySide {
+		if _, err := Separate(context.Background(), p, nil, []int{0}, Options{}); err != ErrEmptySide {
 			t.Errorf("error %v, want ErrEmptySide", err)
 		}
 	})
 	t.Run("row on both sides", func(t *testing.T) {
 		p, _ := truthTable(t, "xor.csv")
-		if _, err := Separate(p, []int{0, 1}, []int{1}, Options{}); err == nil || !strings.Contains(err.Error(), "both sides") {
+		if _, err := Separate(context.Background(), p, []int{0, 1}, []int{1}, Options{}); err == nil || !strings.Contains(err.Error(), "both sides") {
 			t.Errorf("error %v, want one about a row on both sides", err)
 		}
 	})
@@ -104,11 +105,11 @@ func TestCheckInputs(t *testing.T) {
 func TestDeterministic(t *testing.T) {
 	// Common practice: same data and seed, same bits.
 	d := readDataset(t, "iris.csv", "species")
-	a, err := Check(d, CheckOptions{Space: Raw, Pairs: true, Seed: 3})
+	a, err := Check(context.Background(), d, CheckOptions{Space: Raw, Pairs: true, Seed: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
-	b, _ := Check(d, CheckOptions{Space: Raw, Pairs: true, Seed: 3})
+	b, _ := Check(context.Background(), d, CheckOptions{Space: Raw, Pairs: true, Seed: 3})
 	for i := range a.Splits {
 		x, y := a.Splits[i], b.Splits[i]
 		if x.Verdict != y.Verdict || x.Distance != y.Distance || (x.Witness != nil && (x.Witness.Bias != y.Witness.Bias || x.Witness.Margin != y.Witness.Margin)) ||
