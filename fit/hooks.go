@@ -31,7 +31,12 @@ type UpdateRecorder interface {
 //	Δw_j = Steps[j] · x,  Δb_j = Steps[j],
 //
 // where x is pattern Row of the Store given to Train (of the view, for a
-// Subset) and Steps[j] = rate · Rule.Signal(Targets[j], Outputs[j]).
+// Subset; never a held-out pattern) and Steps[j] = rate ·
+// Rule.Signal(Targets[j], Outputs[j]), at the epoch's rate (Options.Decay).
+// With Options.L2 the weights, not the bias, are first multiplied by
+// 1 − rate·L2: before each online update, once before a batch epoch's
+// summed change. Updates change the running weights; an averaging run
+// returns their average (see the package documentation).
 type Update struct {
 	Epoch int // from 1
 	Row   int // index of the pattern in the store

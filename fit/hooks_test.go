@@ -7,6 +7,7 @@ import (
 	"math"
 	"reflect"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -400,3 +401,151 @@ func TestTrainCancelled(t *testing.T) {
 		})
 	}
 }
+
+// historyOf makes the history of a run with the given training losses,
+// held-out losses equal to twice them, and the best losses as Train fills
+// them in.
+func historyOf(losses ...float64) []EpochStats {
+	var history []EpochStats
+	best := math.Inf(1)
+	for e, loss := range losses {
+		best = min(best, loss)
+		history = append(history, EpochStats{Epoch: e + 1, Loss: loss, BestLoss: best,
+			Holdout: HoldoutStats{Rows: 1, Loss: 2 * loss}, BestHoldoutLoss: 2 * best})
+	}
+	return history
+}
+
+// Plateau, by hand: stop after epoch e once the best loss of epochs 1..e
+// is lower than the best of 1..e−P by no more than Tolerance of the latter.
+func TestPlateau(t *testing.T) {
+	for _, tc := range []struct {
+		name    string
+		rule    Plateau
+		history []EpochStats
+		want    string
+	}{
+		{"too few epochs", Plateau{0.01, 3, false}, historyOf(1, 1, 1), ""},
+		{"flat for the window", Plateau{0.01, 3, false}, historyOf(1, 1, 1, 1), StopConverged},
+		{"falling by more than the tolerance", Plateau{0.01, 3, false}, historyOf(1, 1, 1, 0.98), ""},
+		{"falling by exactly the tolerance", Plateau{0.25, 2, false}, historyOf(1, 1, 0.75), StopConverged},
+		{"falling by less than the tolerance", Plateau{0.01, 3, false}, historyOf(1, 1, 1, 0.995), StopConverged},
+		// The old rule compared two consecutive losses: a noisy loss that
+		// happens to repeat did stop it. The best loss over the window did fall.
+		{"noise that repeats a loss", Plateau{1e-9, 3, false}, historyOf(1, 0.9, 0.95, 0.8, 0.8), ""},
+		{"rises after a low, then the window passes", Plateau{0.001, 2, false}, historyOf(1, 0.5, 0.7, 0.6), StopConverged},
+		{"a new low in the window", Plateau{0.001, 2, false}, historyOf(1, 0.5, 0.7, 0.4), ""},
+		{"held-out loss", Plateau{0.01, 2, true}, historyOf(1, 0.5, 0.6, 0.55), StopEarly},
+		{"zero loss stays zero", Plateau{1e-6, 1, false}, historyOf(0, 0), StopConverged},
+		{"patience below 1 counts as 1", Plateau{0.1, 0, false}, historyOf(1, 1), StopConverged},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := tc.rule.Converged(tc.history); got != tc.want {
+				t.Errorf("Converged = %q, want %q", got, tc.want)
+			}
+		})
+	}
+	if got := (Plateau{1e-6, 10, true}).String(); got != "the best held-out loss fell by at most 1e-06 of itself over 10 epochs" {
+		t.Errorf("String = %q", got)
+	}
+}
+
+// The held-out patterns are a fraction of each class, the same for the
+// same seed, never trained on; the weights kept are those of the epoch
+// with the lowest held-out loss (Prechelt 1998).
+func TestHoldout(t *testing.T) {
+	rows, species := readIris(t)
+	p := standardized(rows)
+	t.Run("split", func(t *testing.T) {
+		train, held, err := holdoutSplit(species, 3, 0.2, 9)
+		if err != nil {
+			t.Fatal(err)
+		}
+		perClass := make([]int, 3)
+		for _, r := range held {
+			perClass[species[r]]++
+		}
+		// UCI iris.names: 50 rows per class; 0.2 of 50 is 10.
+		if !slices.Equal(perClass, []int{10, 10, 10}) || len(train) != 120 {
+			t.Errorf("held out %v per class, %d left to train on; want 10 each and 120", perClass, len(train))
+		}
+		all := slices.Sorted(slices.Values(append(slices.Clone(train), held...)))
+		if !slices.Equal(all, identity(150)) || !slices.IsSorted(train) || !slices.IsSorted(held) {
+			t.Error("the two parts are not a sorted partition of the rows")
+		}
+		again, _, _ := holdoutSplit(species, 3, 0.2, 9)
+		other, _, _ := holdoutSplit(species, 3, 0.2, 10)
+		if !slices.Equal(again, train) || slices.Equal(other, train) {
+			t.Error("the split is not a function of the seed")
+		}
+	})
+	t.Run("small classes keep a row to train on", func(t *testing.T) {
+		train, held, err := holdoutSplit([]int{0, 1, 1, 1, 1}, 2, 0.6, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// Class 0: round(0.6) = 1, but its only row stays; class 1: round(2.4) = 2.
+		if len(held) != 2 || len(train) != 3 || train[0] != 0 {
+			t.Errorf("train %v, held %v", train, held)
+		}
+		if _, _, err := holdoutSplit([]int{0, 1, 1}, 2, 0.1, 1); err == nil || !strings.HasPrefix(err.Error(), "fit: ") {
+			t.Errorf("a holdout of none: err = %v", err)
+		}
+	})
+	t.Run("training", func(t *testing.T) {
+		var seen []int
+		rec := &rowRecorder{rows: &seen}
+		res, err := Train(p, species, 3, Options{Seed: 4, Unit: Linear, Holdout: 0.2, Epochs: 60, KeepGoing: true, Recorder: rec})
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, held, _ := holdoutSplit(species, 3, 0.2, 4)
+		for _, r := range seen {
+			if _, found := slices.BinarySearch(held, r); found {
+				t.Fatalf("held-out row %d was trained on", r)
+			}
+		}
+		best := 0
+		for e, s := range res.History {
+			if s.Holdout.Rows != 30 {
+				t.Fatalf("epoch %d measured %d held-out rows, want 30", e+1, s.Holdout.Rows)
+			}
+			if s.Holdout.Loss < res.History[best].Holdout.Loss {
+				best = e
+			}
+		}
+		if res.Epoch != best+1 || res.HoldoutRows != 30 {
+			t.Errorf("kept epoch %d of %d, holdout %d rows; the lowest held-out loss is epoch %d", res.Epoch, len(res.History), res.HoldoutRows, best+1)
+		}
+		// The kept network scores the held-out rows as that epoch measured them.
+		var loss float64
+		outputs := make([]float64, 3)
+		for _, r := range held {
+			res.Network.classify(p.Row(r), outputs)
+			for j, y := range outputs {
+				target := 0.0
+				if j == species[r] {
+					target = 1
+				}
+				loss += (target - y) * (target - y)
+			}
+		}
+		loss /= float64(3 * len(held))
+		if want := res.History[best].Holdout.Loss; math.Abs(loss-want) > 1e-12 {
+			t.Errorf("kept network's held-out loss %v, epoch %d measured %v", loss, best+1, want)
+		}
+	})
+	t.Run("rejected", func(t *testing.T) {
+		for _, fraction := range []float64{-0.1, 1, math.NaN()} {
+			if _, err := Train(p, species, 3, Options{Holdout: fraction}); err == nil {
+				t.Errorf("holdout %v accepted", fraction)
+			}
+		}
+	})
+}
+
+// rowRecorder notes the store row of every update.
+type rowRecorder struct{ rows *[]int }
+
+func (r *rowRecorder) RecordEpoch(EpochStats) error { return nil }
+func (r *rowRecorder) RecordUpdate(u *Update)       { *r.rows = append(*r.rows, u.Row) }

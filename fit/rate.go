@@ -16,9 +16,9 @@ import (
 // which never forms R.
 const maxEigenWidth = 2000
 
-// RateEta is the step size, relative to the per-row bound, of the
-// automatic online rate: rate = RateEta/(max‖x̃‖² + L2), half of the bound.
-const RateEta = 1.0
+// autoEta is the automatic online rate's step relative to the largest
+// row, η in η/(max‖x̃‖² + L2): 1, half the every-row bound of 2.
+const autoEta = 1.0
 
 // Names of the stability bounds a rate is held to (Result.Bound).
 const (
@@ -62,7 +62,7 @@ func (s Spectrum) Bound(opts Options) (bound float64, name string) {
 // patterns of p, and the spectrum it is read from. Only opts.Rule,
 // opts.Batch and opts.L2 are read.
 //
-// Online the rate is RateEta/(max‖x̃‖² + L2), half the every-row bound, so
+// Online the rate is 1/(max‖x̃‖² + L2), half the every-row bound, so
 // that no single pattern, however far out, makes an update overshoot
 // (Nagumo & Noda 1967; Bach & Moulines 2013 bound their averaged
 // constant-step LMS the same way, by the largest ‖x̃‖²). A rate per row,
@@ -96,7 +96,7 @@ func autoRate(s Spectrum, opts Options, n int) float64 {
 	if opts.Batch {
 		return bound / 2
 	}
-	return RateEta * bound / 2
+	return autoEta * bound / 2
 }
 
 // isOnePass reports whether rule makes a single pass (OnePass).

@@ -21,9 +21,9 @@ var ErrDiverged = errors.New("fit: weights diverged")
 const (
 	DefaultEpochs = 200
 	// DefaultTolerance and DefaultPatience are the default stop rule's:
-	// training ends once the best loss has fallen by no more than 1e-4 of
+	// training ends once the best loss has fallen by no more than 1e-6 of
 	// itself over 10 epochs (Plateau).
-	DefaultTolerance = 1e-4
+	DefaultTolerance = 1e-6
 	DefaultPatience  = 10
 	// divergedLoss is the loss past which a run counts as diverged.
 	divergedLoss = 1e12

@@ -166,12 +166,23 @@ func TestAutomaticRateSurvivesAnOutlier(t *testing.T) {
 		{"0.5/tr(R)", Options{Unit: Linear, Seed: 1, Rate: 0.5 / spec.TraceR}, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
+			var warnings []string
+			tc.opts.Warn = func(m string) { warnings = append(warnings, m) }
 			res, err := Train(p, classes, 2, tc.opts)
 			if tc.diverge {
-				if !errors.Is(err, ErrDiverged) || !strings.Contains(err.Error(), "2/max‖x̃‖² = ") {
+				// λmax = 1 here, so the rate is below the mean bound 2/λmax: the bound
+				// crossed, and named, is the every-row one.
+				const bound = "2/max‖x̃‖² = "
+				if !errors.Is(err, ErrDiverged) || !strings.Contains(err.Error(), "is at or above "+bound) {
 					t.Errorf("err = %v, want ErrDiverged naming the every-row bound", err)
 				}
+				if len(warnings) != 1 || !strings.Contains(warnings[0], bound) || !strings.Contains(warnings[0], "every row's update is stable") {
+					t.Errorf("warnings %q, want one naming the every-row bound", warnings)
+				}
 				return
+			}
+			if len(warnings) != 0 {
+				t.Errorf("warnings %q for the automatic rate", warnings)
 			}
 			if err != nil {
 				t.Fatal(err)
