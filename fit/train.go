@@ -102,9 +102,9 @@ type Options struct {
 	// when it is an UpdateRecorder.
 	Recorder Recorder
 	// Warn, if not nil, is called before the first epoch with each warning
-	// about the options on these patterns: a fixed Rate above the
-	// stability bound that applies (Result.Bound). It is called from the
-	// goroutine that called Train.
+	// about the options on these patterns, a sentence without the package
+	// name: a fixed Rate at or above the stability bound that applies
+	// (Result.Bound). It is called from the goroutine that called Train.
 	Warn func(message string)
 	// Workers is the most goroutines that measure an epoch; 0 means
 	// runtime.GOMAXPROCS(0), read once when Train starts. Results do not
@@ -147,10 +147,13 @@ type Result struct {
 	RowMax    float64
 	// Bound is the stability bound the rate is held to, named by
 	// BoundName: BoundEveryRow (online), BoundMean (batch) or BoundNone
-	// (OnePass, Bound 0). See Spectrum.Bound.
-	Bound     float64
-	BoundName string
-	History   []EpochStats
+	// (OnePass, Bound 0), and written as a formula by BoundFormula, such
+	// as "2/max‖x̃‖²" or "2/(λmax + l2)" ("" for BoundNone). See
+	// Spectrum.Bound.
+	Bound        float64
+	BoundName    string
+	BoundFormula string
+	History      []EpochStats
 	// Epoch is the epoch whose weights Network holds: the last one, or
 	// with a holdout the one with the lowest held-out loss.
 	Epoch int
@@ -364,8 +367,11 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 	t.result.Rate, t.result.RateAuto = rate, auto
 	t.result.LambdaMax, t.result.TraceR, t.result.RowMax = spec.LambdaMax, spec.TraceR, spec.RowMax
 	t.result.Bound, t.result.BoundName = bound, boundName
+	if boundName != BoundNone {
+		t.result.BoundFormula = boundText(boundName, opts.L2)
+	}
 	if opts.Warn != nil && !auto && boundName != BoundNone && rate >= bound {
-		opts.Warn(fmt.Sprintf("fit: rate %.4g is at or above %s; training may diverge", rate, t.crossed(rate)))
+		opts.Warn(fmt.Sprintf("rate %.4g is at or above %s; training may diverge", rate, t.crossed(rate)))
 	}
 
 	units, width := unitCount(numClasses), p.Inputs()
@@ -535,9 +541,10 @@ func boundText(name string, l2 float64) string {
 }
 
 // crossed names the largest stability bound that rate is at or above,
-// with its value and what it guarantees: the mean bound 2/(λmax + l2),
-// or, online, the every-row bound 2/(max‖x̃‖² + l2). It names the bound
-// of the mode when rate is below both.
+// with its value and what it guarantees: the mean bound 2/(λmax + l2)
+// (Widrow & Stearns 1985), or, online, the every-row bound
+// 2/(max‖x̃‖² + l2) (Nagumo & Noda 1967). It names the bound of the mode
+// when rate is below both.
 func (t *trainer) crossed(rate float64) string {
 	l2 := t.opts.L2
 	mean := 2 / (t.result.LambdaMax + l2)
@@ -545,9 +552,9 @@ func (t *trainer) crossed(rate float64) string {
 	if rate >= mean {
 		name, bound = BoundMean, mean
 	}
-	what := "under which every row's update is stable (Nagumo & Noda 1967)"
+	what := "the bound for a stable update on every row"
 	if name == BoundMean {
-		what = "under which the delta rule converges in the mean (Widrow & Stearns 1985)"
+		what = "the bound for convergence in the mean"
 	}
 	return fmt.Sprintf("%s = %.4g, %s", boundText(name, l2), bound, what)
 }
@@ -556,8 +563,7 @@ func (t *trainer) crossed(rate float64) string {
 func (t *trainer) divergence(epoch int) error {
 	rate := t.epochRate(epoch)
 	if t.result.BoundName == BoundNone {
-		return fmt.Errorf("%w at epoch %d (rate %.4g; the weights of a one-pass rule are the rate times the summed updates)",
-			ErrDiverged, epoch, rate)
+		return fmt.Errorf("%w at epoch %d (rate %.4g; no stability bound applies to a one-pass rule)", ErrDiverged, epoch, rate)
 	}
 	relation := "is at or above"
 	if rate < t.result.Bound && rate < 2/(t.result.LambdaMax+t.opts.L2) {

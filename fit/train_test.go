@@ -66,7 +66,7 @@ func TestRateAboveStabilityBoundDiverges(t *testing.T) {
 				if result != nil {
 					t.Errorf("got a result %+v alongside ErrDiverged", result)
 				}
-				bound := fmt.Sprintf("2/λmax = %.4g, under which the delta rule converges in the mean", 2/spec.LambdaMax)
+				bound := fmt.Sprintf("2/λmax = %.4g, the bound for convergence in the mean", 2/spec.LambdaMax)
 				if msg := err.Error(); !strings.HasPrefix(msg, "fit: weights diverged at epoch ") || !strings.Contains(msg, "is at or above "+bound) {
 					t.Errorf("message %q lacks the epoch or the bound %q", msg, bound)
 				}
@@ -176,7 +176,7 @@ func TestAutomaticRateSurvivesAnOutlier(t *testing.T) {
 				if !errors.Is(err, ErrDiverged) || !strings.Contains(err.Error(), "is at or above "+bound) {
 					t.Errorf("err = %v, want ErrDiverged naming the every-row bound", err)
 				}
-				if len(warnings) != 1 || !strings.Contains(warnings[0], bound) || !strings.Contains(warnings[0], "every row's update is stable") {
+				if len(warnings) != 1 || !strings.Contains(warnings[0], bound) || !strings.Contains(warnings[0], "the bound for a stable update on every row") {
 					t.Errorf("warnings %q, want one naming the every-row bound", warnings)
 				}
 				return
