@@ -68,7 +68,7 @@ separable, or undecided).`,
 	opts.input.add(cmd.Flags())
 	opts.learn.add(cmd)
 	cmd.Flags().Lookup("seed").Usage = "seed of the order in which the solver takes rows into its working set"
-	for _, name := range []string{"rule", "unit", "epochs", "rate"} {
+	for _, name := range trainingFlags {
 		_ = cmd.Flags().MarkHidden(name) // training flags: check trains nothing
 	}
 	cmd.Flags().StringVar(&opts.space, "space", string(separate.Encoded), "where to compare rows: encoded (input units) or raw (numeric columns, standardized)")
