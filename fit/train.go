@@ -223,16 +223,16 @@ func (s *sample) callerRow(i int) int {
 type layer struct {
 	weights []float64
 	biases  []float64
+	width   int
 }
 
 func newLayer(units, width int) layer {
-	return layer{weights: make([]float64, units*width), biases: make([]float64, units)}
+	return layer{weights: make([]float64, units*width), biases: make([]float64, units), width: width}
 }
 
 // unit returns unit j's weights.
 func (l layer) unit(j int) []float64 {
-	width := len(l.weights) / len(l.biases)
-	return l.weights[j*width : (j+1)*width : (j+1)*width]
+	return l.weights[j*l.width : (j+1)*l.width : (j+1)*l.width]
 }
 
 func (l layer) copyFrom(src layer) {
