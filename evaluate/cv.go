@@ -20,6 +20,22 @@ type Learner struct {
 	Fit  fit.Options
 }
 
+// DefaultLearner is the learner deltafit fit uses when no flag says
+// otherwise: the auto numeric encoding, one-hot categories, the delta rule
+// on logistic units with averaged online updates at the automatic rate,
+// training on past zero errors until the loss stops falling.
+func DefaultLearner(seed uint64) Learner {
+	auto, err := encode.ParseNumericEncoding(encode.Auto)
+	if err != nil {
+		panic(err) // the package's own constant
+	}
+	return Learner{
+		Plan: encode.Options{Numeric: auto, Categorical: encode.Encoding{Method: encode.OneHot, Min: 1}},
+		Fit: fit.Options{Rule: fit.Delta{}, Unit: fit.Logistic, Epochs: fit.DefaultEpochs, Seed: seed, KeepGoing: true,
+			Tolerance: fit.DefaultTolerance, Patience: fit.DefaultPatience},
+	}
+}
+
 // Fitted is a plan and the network trained on its patterns.
 type Fitted struct {
 	Classifier *model.Classifier

@@ -7,9 +7,6 @@ import (
 	"path/filepath"
 	"strconv"
 	"testing"
-
-	"deltafit/fit"
-	"deltafit/ingest/encode"
 )
 
 // referenceAccuracy reads the pooled 10-fold accuracy of base R's linear
@@ -48,10 +45,6 @@ func referenceAccuracy(t *testing.T, dataset string) float64 {
 // its pooled stratified 10-fold accuracy (seed 1) is at least the
 // reference's mean less 0.005 on every open dataset.
 func TestDefaultAgainstBaseR(t *testing.T) {
-	auto, err := encode.ParseNumericEncoding("auto")
-	if err != nil {
-		t.Fatal(err)
-	}
 	for _, tc := range []struct{ dataset, file, target string }{
 		{"iris", "../iris.csv", "species"},
 		{"crabs", "crabs.csv", "species"},
@@ -64,8 +57,7 @@ func TestDefaultAgainstBaseR(t *testing.T) {
 				t.Skip("a few seconds each; skipped with -short")
 			}
 			d := openDataset(t, tc.file, tc.target)
-			l := Learner{Plan: encode.Options{Numeric: auto}, Fit: fit.Options{Seed: 1}}
-			s, err := RunStudy(context.Background(), d, l, StudyOptions{Folds: 10, Seed: 1})
+			s, err := RunStudy(context.Background(), d, DefaultLearner(1), StudyOptions{Folds: 10, Seed: 1})
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -56,29 +56,56 @@ func NewModel(f *evaluate.Fitted, opts Options, data DataInfo) *Model {
 }
 
 // Options are the options a model was fitted with, as the user gave them.
+// Model files written before decay, l2, batch, average, tolerance,
+// holdout and patience existed lack those keys.
 type Options struct {
-	Rule        string            `json:"rule"`
-	Unit        string            `json:"unit"`
-	Epochs      int               `json:"epochs"`
-	Rate        string            `json:"rate"` // "auto" or a number
-	Numeric     string            `json:"numeric"`
-	Categorical string            `json:"categorical"`
-	Seed        uint64            `json:"seed"`
-	Ignore      []string          `json:"ignore"`
-	Kinds       map[string]string `json:"kinds"`
+	Rule      string  `json:"rule"`
+	Unit      string  `json:"unit"`
+	Epochs    int     `json:"epochs"`
+	Rate      string  `json:"rate"` // "auto" or a number
+	Decay     float64 `json:"decay"`
+	L2        float64 `json:"l2"`
+	Batch     bool    `json:"batch"`
+	Average   bool    `json:"average"` // online weights averaged
+	Tolerance float64 `json:"tolerance"`
+	Holdout   float64 `json:"holdout"`
+	Patience  int     `json:"patience"`
+	// StopWhenSeparated stops training at the first epoch with no errors.
+	StopWhenSeparated bool              `json:"stop_when_separated"`
+	Numeric           string            `json:"numeric"`
+	Categorical       string            `json:"categorical"`
+	Seed              uint64            `json:"seed"`
+	Ignore            []string          `json:"ignore"`
+	Kinds             map[string]string `json:"kinds"`
 }
 
-// Training summarises the fit on all rows.
+// Training summarises the fit on all rows. Errors and Loss are those of
+// the weights kept: of epoch KeptEpoch, the last one unless a holdout
+// kept an earlier one. Model files written before the keys after trace_r
+// (other than epochs, errors, loss, stop, history) existed lack them.
 type Training struct {
-	Rate      float64          `json:"rate"`
-	RateAuto  bool             `json:"rate_auto"`
-	LambdaMax float64          `json:"lambda_max"`
-	TraceR    float64          `json:"trace_r"`
-	Epochs    int              `json:"epochs"`
-	Errors    int              `json:"errors"`
-	Loss      float64          `json:"loss"`
-	Stop      string           `json:"stop"`
-	History   []fit.EpochStats `json:"history"`
+	Rate      float64 `json:"rate"`
+	RateAuto  bool    `json:"rate_auto"`
+	LambdaMax float64 `json:"lambda_max"`
+	TraceR    float64 `json:"trace_r"`
+	RowMax    float64 `json:"row_max"` // largest ‖x̃‖² of a training row
+	// RateBound is the stability bound the rate is held to, named by
+	// RateBoundName (fit.BoundEveryRow, fit.BoundMean, fit.BoundNone) and
+	// written out by RateBoundFormula.
+	RateBound        float64 `json:"rate_bound"`
+	RateBoundName    string  `json:"rate_bound_name"`
+	RateBoundFormula string  `json:"rate_bound_formula"`
+	Epochs           int     `json:"epochs"`
+	Errors           int     `json:"errors"`
+	Loss             float64 `json:"loss"`
+	Stop             string  `json:"stop"`
+	StopRule         string  `json:"stop_rule"` // the rule that stopped the run, in words
+	KeptEpoch        int     `json:"kept_epoch"`
+	// AverageFrom is the first epoch of the updates whose weights the
+	// model averages, through KeptEpoch; 0 when they are not averaged.
+	AverageFrom int              `json:"average_from"`
+	HoldoutRows int              `json:"holdout_rows"`
+	History     []fit.EpochStats `json:"history"`
 	// Encoding says how an auto numeric encoding was chosen.
 	Encoding *evaluate.EncodingChoice `json:"encoding_choice,omitempty"`
 }
@@ -92,19 +119,37 @@ type DataInfo struct {
 // NewTraining summarises a fit result.
 func NewTraining(res *fit.Result) Training {
 	t := Training{
-		Rate:      res.Rate,
-		RateAuto:  res.RateAuto,
-		LambdaMax: res.LambdaMax,
-		TraceR:    res.TraceR,
-		Epochs:    len(res.History),
-		Stop:      res.Stop,
-		History:   res.History,
+		Rate:             res.Rate,
+		RateAuto:         res.RateAuto,
+		LambdaMax:        res.LambdaMax,
+		TraceR:           res.TraceR,
+		RowMax:           res.RowMax,
+		RateBound:        res.Bound,
+		RateBoundName:    res.BoundName,
+		RateBoundFormula: res.BoundFormula,
+		Epochs:           len(res.History),
+		Stop:             res.Stop,
+		StopRule:         res.StopRule,
+		KeptEpoch:        res.Epoch,
+		AverageFrom:      res.AverageFrom,
+		HoldoutRows:      res.HoldoutRows,
+		History:          fileHistory(res.History),
 	}
-	if n := len(res.History); n > 0 {
-		t.Errors = res.History[n-1].Errors
-		t.Loss = res.History[n-1].Loss
+	if k := res.Epoch; k > 0 && k <= len(res.History) {
+		t.Errors = res.History[k-1].Errors
+		t.Loss = res.History[k-1].Loss
 	}
 	return t
+}
+
+// fileHistory returns a copy of history as a model file holds it: without
+// the best losses, which the file does not keep (fit.EpochStats).
+func fileHistory(history []fit.EpochStats) []fit.EpochStats {
+	out := slices.Clone(history)
+	for i := range out {
+		out[i].BestLoss, out[i].BestHoldoutLoss = 0, 0
+	}
+	return out
 }
 
 // WriteModel writes m as indented JSON.

@@ -58,11 +58,24 @@ type TrainingSummary struct {
 	RateAuto    bool    `json:"rate_auto"`
 	LambdaMax   float64 `json:"lambda_max"`
 	StableBelow float64 `json:"stable_below"` // 2/λmax
-	Epochs      int     `json:"epochs"`
+	// RateBound is the stability bound that applies to the run, named by
+	// RateBoundName: "every-row" (online, 2/(max‖x̃‖² + l2)), "mean"
+	// (batch, 2/(λmax + l2)) or "none" (one pass). Empty for a model file
+	// that predates it.
+	RateBound        float64 `json:"rate_bound"`
+	RateBoundName    string  `json:"rate_bound_name"`
+	RateBoundFormula string  `json:"rate_bound_formula"` // such as "2/max‖x̃‖²"
+	Epochs           int     `json:"epochs"`
+	// Errors, Accuracy and Loss are those of the weights kept on the
+	// rows trained on (all rows but the held-out ones).
 	Errors      int     `json:"errors"`
 	Accuracy    float64 `json:"accuracy"`
 	Loss        float64 `json:"loss"`
 	Stop        string  `json:"stop"`
+	StopRule    string  `json:"stop_rule"` // the rule that stopped the run, in words
+	KeptEpoch   int     `json:"kept_epoch"`
+	AverageFrom int     `json:"average_from"` // 0: the weights are not averaged
+	HoldoutRows int     `json:"holdout_rows"`
 }
 
 // NewTrainingSummary summarises a model's training record.
@@ -74,13 +87,15 @@ func trainingSummary(net *fit.Network, t Training, rows int) TrainingSummary {
 	s := TrainingSummary{
 		Rule: net.Rule, Unit: net.Unit.String(),
 		Rate: t.Rate, RateAuto: t.RateAuto, LambdaMax: t.LambdaMax,
-		Epochs: t.Epochs, Errors: t.Errors, Loss: t.Loss, Stop: t.Stop,
+		RateBound: t.RateBound, RateBoundName: t.RateBoundName, RateBoundFormula: t.RateBoundFormula,
+		Epochs: t.Epochs, Errors: t.Errors, Loss: t.Loss, Stop: t.Stop, StopRule: t.StopRule,
+		KeptEpoch: t.KeptEpoch, AverageFrom: t.AverageFrom, HoldoutRows: t.HoldoutRows,
 	}
 	if t.LambdaMax > 0 {
 		s.StableBelow = 2 / t.LambdaMax
 	}
-	if rows > 0 {
-		s.Accuracy = 1 - float64(t.Errors)/float64(rows)
+	if trained := rows - t.HoldoutRows; trained > 0 {
+		s.Accuracy = 1 - float64(t.Errors)/float64(trained)
 	}
 	return s
 }
@@ -368,7 +383,10 @@ func (p *printer) training(r *FitReport) {
 	t := r.Training
 	p.line("training: %s rule, %s units, rate %s (%s)", t.Rule, t.Unit, num(t.Rate), rateNote(t))
 	p.line("          %s (stop: %s), %s in %s (accuracy %s), loss %s",
-		count(t.Epochs, "epoch"), t.Stop, count(t.Errors, "training error"), count(r.Data.Rows, "row"), num(t.Accuracy), num(t.Loss))
+		count(t.Epochs, "epoch"), stopNote(t), count(t.Errors, "training error"), count(r.Data.Rows-t.HoldoutRows, "row"), num(t.Accuracy), num(t.Loss))
+	if note := weightsNote(t); note != "" {
+		p.line("          %s", note)
+	}
 	if r.Model != "" {
 		p.line("model: written to %s", r.Model)
 	}
@@ -397,10 +415,42 @@ func rateNote(t TrainingSummary) string {
 	if t.RateAuto {
 		how = "automatic"
 	}
-	if t.LambdaMax <= 0 {
+	switch {
+	case t.RateBoundName == fit.BoundNone && t.RateAuto:
+		return how + ": 1/rows, one pass"
+	case t.RateBoundName == fit.BoundNone:
+		return how + ", one pass"
+	case t.RateBoundName == fit.BoundEveryRow:
+		return fmt.Sprintf("%s; every row's update stable below %s = %s; λmax %s", how, t.RateBoundFormula, num(t.RateBound), num(t.LambdaMax))
+	case t.RateBoundName == fit.BoundMean:
+		return fmt.Sprintf("%s; λmax %s, stable below %s = %s", how, num(t.LambdaMax), t.RateBoundFormula, num(t.RateBound))
+	case t.LambdaMax <= 0:
 		return how
 	}
+	// A model file that predates the named bounds.
 	return fmt.Sprintf("%s; λmax %s, stable below 2/λmax = %s", how, num(t.LambdaMax), num(t.StableBelow))
+}
+
+// stopNote says why training stopped and, when the rule says more than
+// its reason, how.
+func stopNote(t TrainingSummary) string {
+	if t.StopRule == "" || t.StopRule == t.Stop || t.Stop == fit.StopEpochs || t.Stop == fit.StopOnePass {
+		return t.Stop
+	}
+	return t.Stop + ", " + t.StopRule
+}
+
+// weightsNote says which weights the model holds when they are not simply
+// those of the last update: averaged, or of an earlier epoch.
+func weightsNote(t TrainingSummary) string {
+	var parts []string
+	if t.AverageFrom > 0 {
+		parts = append(parts, fmt.Sprintf("weights: the average over the updates of epochs %d to %d", t.AverageFrom, t.KeptEpoch))
+	}
+	if t.HoldoutRows > 0 {
+		parts = append(parts, fmt.Sprintf("kept epoch %d, lowest loss on the %s held out", t.KeptEpoch, count(t.HoldoutRows, "row")))
+	}
+	return strings.Join(parts, "; ")
 }
 
 // printer writes the text and Markdown reports, keeping the first error.

@@ -85,6 +85,6 @@ func ExampleUpdateRecorder() {
 	//   row 1 class 1: target 1 output 0.0000 step +0.2500
 	//   row 2 class 1: target 1 output 0.2500 step +0.1875
 	//   row 3 class 1: target 1 output 0.8750 step +0.0312
-	// epoch 1: loss 0.1163, 0 errors
+	// epoch 1: loss 0.1321, 0 errors
 	// stop: zero-errors
 }

@@ -1,6 +1,6 @@
 package fit
 
-import "math"
+import "fmt"
 
 // Recorder is told of each epoch of a training run (Options.Recorder).
 // Train calls it from the goroutine that called Train; a Recorder shared
@@ -31,7 +31,12 @@ type UpdateRecorder interface {
 //	Δw_j = Steps[j] · x,  Δb_j = Steps[j],
 //
 // where x is pattern Row of the Store given to Train (of the view, for a
-// Subset) and Steps[j] = rate · Rule.Signal(Targets[j], Outputs[j]).
+// Subset; never a held-out pattern) and Steps[j] = rate ·
+// Rule.Signal(Targets[j], Outputs[j]), at the epoch's rate (Options.Decay).
+// With Options.L2 the weights, not the bias, are first multiplied by
+// 1 − rate·L2: before each online update, once before a batch epoch's
+// summed change. Updates change the running weights; an averaging run
+// returns their average (see the package documentation).
 type Update struct {
 	Epoch int // from 1
 	Row   int // index of the pattern in the store
@@ -74,23 +79,52 @@ func (ZeroErrors) Converged(history []EpochStats) string {
 	return ""
 }
 
-// LossChange stops training, with reason StopConverged, once the loss
-// changes by less than Tolerance·max(1, previous loss) from one epoch to
-// the next.
-type LossChange struct {
+// String says when ZeroErrors stops.
+func (ZeroErrors) String() string { return "no training pattern misclassified" }
+
+// Plateau stops training once the best loss has stopped falling: after
+// epoch e > Patience, when the lowest loss of epochs 1..e is lower than
+// the lowest of epochs 1..e−Patience by no more than Tolerance times the
+// latter. Its reason is StopConverged for the training loss, and with
+// Holdout StopEarly for the loss of the held-out patterns, which is early
+// stopping (Prechelt 1998: stop once the validation loss has not improved
+// for a number of epochs).
+//
+// Comparing best losses, not one epoch's loss with the next, means that a
+// noisy loss that rises for an epoch or falls by chance stops nothing:
+// the run ends only when Patience epochs in a row have brought no real
+// improvement. It reads EpochStats.BestLoss or BestHoldoutLoss, which
+// Train fills in. A Patience below 1 counts as 1.
+type Plateau struct {
 	Tolerance float64
+	Patience  int
+	Holdout   bool
 }
 
-// Converged returns StopConverged when the last two epochs' losses differ
-// by less than the tolerance.
-func (c LossChange) Converged(history []EpochStats) string {
+// Converged returns the rule's reason when the best loss has fallen by no
+// more than Tolerance of itself over the last Patience epochs.
+func (p Plateau) Converged(history []EpochStats) string {
+	patience := max(p.Patience, 1)
 	n := len(history)
-	if n < 2 {
+	if n <= patience {
 		return ""
 	}
-	previous, loss := history[n-2].Loss, history[n-1].Loss
-	if math.Abs(loss-previous) < c.Tolerance*math.Max(1, previous) {
-		return StopConverged
+	before, now := history[n-1-patience].BestLoss, history[n-1].BestLoss
+	reason := StopConverged
+	if p.Holdout {
+		before, now, reason = history[n-1-patience].BestHoldoutLoss, history[n-1].BestHoldoutLoss, StopEarly
+	}
+	if before-now <= p.Tolerance*before {
+		return reason
 	}
 	return ""
+}
+
+// String says when the rule stops.
+func (p Plateau) String() string {
+	loss := "training"
+	if p.Holdout {
+		loss = "held-out"
+	}
+	return fmt.Sprintf("the best %s loss fell by at most %g of itself over %d epochs", loss, p.Tolerance, max(p.Patience, 1))
 }

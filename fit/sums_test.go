@@ -63,10 +63,11 @@ func TestCorrelationMergeIrisShards(t *testing.T) {
 			t.Fatalf("entry %d: merged %v, whole %v", k, merged.Sum[k], whole.Sum[k])
 		}
 	}
-	_, lambdaMax, traceR, err := fit.AutoRate(p, true)
+	_, spec, err := fit.AutoRate(p, fit.Options{Batch: true})
 	if err != nil {
 		t.Fatal(err)
 	}
+	lambdaMax, traceR := spec.LambdaMax, spec.TraceR
 	var eigen mat.EigenSym
 	if !eigen.Factorize(merged.Mean(), false) {
 		t.Fatal("eigendecomposition failed")

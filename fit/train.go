@@ -7,33 +7,39 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 	"sync"
 	"sync/atomic"
 )
 
 // ErrDiverged is returned, wrapped with the epoch, the rate and the
-// stability bound 2/λmax, when the weights or the loss stop being finite
-// or the loss passes 1e12.
+// stability bound the rate crossed, when the weights or the loss stop
+// being finite or the loss passes 1e12.
 var ErrDiverged = errors.New("fit: weights diverged")
 
 // Defaults of Options.
 const (
-	DefaultEpochs    = 200
-	DefaultTolerance = 1e-9
+	DefaultEpochs = 200
+	// DefaultTolerance and DefaultPatience are the default stop rule's:
+	// training ends once the best loss has fallen by no more than 1e-6 of
+	// itself over 10 epochs (Plateau).
+	DefaultTolerance = 1e-6
+	DefaultPatience  = 10
 	// divergedLoss is the loss past which a run counts as diverged.
 	divergedLoss = 1e12
 )
 
 // Stop reasons of a Result. A Converger of Options.Stop may give others.
 const (
-	StopZeroErrors = "zero-errors" // ZeroErrors
-	StopConverged  = "converged"   // LossChange
-	StopEpochs     = "epochs"      // Options.Epochs reached
-	StopOnePass    = "one-pass"    // a OnePass rule's single epoch
+	StopZeroErrors = "zero-errors"    // ZeroErrors
+	StopConverged  = "converged"      // Plateau on the training loss
+	StopEarly      = "early-stopping" // Plateau on the held-out loss
+	StopEpochs     = "epochs"         // Options.Epochs reached
+	StopOnePass    = "one-pass"       // a OnePass rule's single epoch
 )
 
 // Options control Train. The zero value trains logistic units with the
-// delta rule online at the automatic rate.
+// delta rule online at the automatic rate, returning averaged weights.
 type Options struct {
 	// Rule is the learning rule; nil means Delta{}.
 	Rule Rule
@@ -45,16 +51,41 @@ type Options struct {
 	// Rate is the learning rate; 0 means automatic (see AutoRate).
 	// A negative rate is an error.
 	Rate float64
-	// Tolerance is the tolerance of the default LossChange rule: training
-	// stops once the loss changes by less than Tolerance·max(1, previous
-	// loss) in an epoch; 0 means 1e-9. It is not used when Stop is set.
-	Tolerance float64
-	// Seed seeds the order in which each online epoch visits the patterns.
+	// Decay lowers the rate epoch by epoch: epoch e (from 1) trains at
+	// Rate/(1 + Decay·(e−1)), a 1/t schedule (Robbins & Monro 1951; Bottou
+	// 2012). 0, the default, keeps the rate constant.
+	Decay float64
+	// L2 is the weight decay λ ≥ 0 (Krogh & Hertz 1992): every update
+	// first shrinks the weights, not the biases, by the factor 1 − rate·λ,
+	// so training minimizes the mean squared error plus λ/2·‖w‖².
+	L2 float64
+	// Seed seeds the order in which each online epoch visits the patterns,
+	// and the choice of the held-out patterns.
 	Seed uint64
 	// Batch applies the mean update once per epoch instead of one update
 	// per pattern (full-batch gradient descent, whose fixed point for
-	// linear units is the least-squares solution).
+	// linear units is the least-squares solution). Batch weights are not
+	// averaged.
 	Batch bool
+	// LastIterate makes an online run return the weights after its last
+	// update instead of their average over the last epochs (see the
+	// package documentation, "Averaged weights").
+	LastIterate bool
+	// Holdout, in [0, 1), is the fraction of the patterns held out of
+	// training to stop it early (Prechelt 1998): that fraction of each
+	// class, rounded, at least one pattern in all and at least one of each
+	// class left to train on, chosen by a PCG seeded with (Seed, 0). The
+	// default stop rule then watches their loss (StopEarly), and the
+	// weights returned are those of the epoch with the lowest held-out
+	// loss. 0, the default, trains on every pattern.
+	Holdout float64
+	// Tolerance and Patience set the default stop rule, Plateau: training
+	// ends once the best loss (the held-out loss with a Holdout) has
+	// fallen by no more than Tolerance of itself over Patience epochs. 0
+	// means DefaultTolerance and DefaultPatience. Neither is used when
+	// Stop is set.
+	Tolerance float64
+	Patience  int
 	// KeepGoing trains on after a training epoch with zero errors: it
 	// leaves ZeroErrors out of the default stop rules. It is not used when
 	// Stop is set.
@@ -62,39 +93,82 @@ type Options struct {
 
 	// Stop are the rules that may end training early, asked in order
 	// after each epoch; the first to give a reason ends it. nil means
-	// ZeroErrors{} (unless KeepGoing), then LossChange{Tolerance}. Besides
-	// them, training always ends after Epochs epochs (StopEpochs) and
-	// after the single epoch of a OnePass rule (StopOnePass, before any
-	// rule is asked).
+	// ZeroErrors{} (unless KeepGoing), then Plateau{Tolerance, Patience,
+	// Holdout > 0}. Besides them, training always ends after Epochs epochs
+	// (StopEpochs) and after the single epoch of a OnePass rule
+	// (StopOnePass, before any rule is asked).
 	Stop []Converger
 	// Recorder, if not nil, is told of every epoch, and of every update
 	// when it is an UpdateRecorder.
 	Recorder Recorder
+	// Warn, if not nil, is called before the first epoch with each warning
+	// about the options on these patterns, a sentence without the package
+	// name: a fixed Rate at or above the stability bound that applies
+	// (Result.Bound). It is called from the goroutine that called Train.
+	Warn func(message string)
 	// Workers is the most goroutines that measure an epoch; 0 means
 	// runtime.GOMAXPROCS(0), read once when Train starts. Results do not
 	// depend on it. A negative count is an error.
 	Workers int
 }
 
-// EpochStats are measured after an epoch with the weights it ends with.
+// EpochStats are measured after an epoch with the weights it ends with:
+// the averaged weights when the run averages.
 type EpochStats struct {
 	Epoch  int     `json:"epoch"`  // from 1
 	Loss   float64 `json:"loss"`   // mean over patterns and units of (t − y)²
 	Errors int     `json:"errors"` // patterns whose class is not the one Classify gives
+	// Holdout is measured on the held-out patterns (Options.Holdout); it
+	// is the zero value, and not written, without them.
+	Holdout HoldoutStats `json:"holdout,omitzero"`
+	// BestLoss is the lowest Loss of the run up to this epoch, and
+	// BestHoldoutLoss the lowest Holdout.Loss: what Plateau compares. Train
+	// fills them in; they are not written.
+	BestLoss        float64 `json:"-"`
+	BestHoldoutLoss float64 `json:"-"`
+}
+
+// HoldoutStats are an epoch's measurements on the held-out patterns.
+type HoldoutStats struct {
+	Rows   int     `json:"rows"`
+	Loss   float64 `json:"loss"`
+	Errors int     `json:"errors"`
 }
 
 // Result is the outcome of Train.
 type Result struct {
-	Network   *Network
-	Rate      float64 // the rate used
-	RateAuto  bool    // whether Rate was chosen automatically
-	LambdaMax float64 // largest eigenvalue of R = mean of x̃x̃ᵀ, x̃ = [x, 1]
-	TraceR    float64 // trace of R
-	History   []EpochStats
+	Network  *Network
+	Rate     float64 // the rate used (of the first epoch, with Decay)
+	RateAuto bool    // whether Rate was chosen automatically
+	// The spectrum of the training patterns (see Spectrum): λmax and the
+	// trace of R = mean of x̃x̃ᵀ, x̃ = [x, 1], and the largest ‖x̃‖².
+	LambdaMax float64
+	TraceR    float64
+	RowMax    float64
+	// Bound is the stability bound the rate is held to, named by
+	// BoundName: BoundEveryRow (online), BoundMean (batch) or BoundNone
+	// (OnePass, Bound 0), and written as a formula by BoundFormula, such
+	// as "2/max‖x̃‖²" or "2/(λmax + l2)" ("" for BoundNone). See
+	// Spectrum.Bound.
+	Bound        float64
+	BoundName    string
+	BoundFormula string
+	History      []EpochStats
+	// Epoch is the epoch whose weights Network holds: the last one, or
+	// with a holdout the one with the lowest held-out loss.
+	Epoch int
+	// AverageFrom is the first epoch of the updates whose weights Network
+	// averages, through Epoch; 0 when Network holds the weights of a
+	// single moment (batch, OnePass, LastIterate).
+	AverageFrom int
+	// HoldoutRows is the number of held-out patterns, 0 without.
+	HoldoutRows int
 	// Stop is why training ended: StopOnePass, StopEpochs or the reason
-	// of the stop rule that ended it (by default StopZeroErrors or
-	// StopConverged).
-	Stop string
+	// of the stop rule that ended it (by default StopZeroErrors,
+	// StopConverged or StopEarly). StopRule says it in words: the
+	// String of that rule when it has one, else its reason.
+	Stop     string
+	StopRule string
 }
 
 // Train is TrainContext with a context that is never cancelled.
@@ -120,31 +194,103 @@ func TrainContext(ctx context.Context, p Store, classes []int, numClasses int, o
 // context: often enough to stop promptly, rarely enough to cost nothing.
 const ctxRows = 4096
 
+// sample is a set of patterns with their classes as training reads them:
+// the patterns trained on, or the held-out ones.
+type sample struct {
+	store   Store
+	kernels RowKernels // the store's fast path, or nil
+	classes []int
+	// rows are the indices in the caller's store of the patterns of a
+	// view; nil when store is the caller's.
+	rows []int
+}
+
+func newSample(s Store, classes, rows []int) sample {
+	k, _ := s.(RowKernels)
+	return sample{store: s, kernels: k, classes: classes, rows: rows}
+}
+
+// callerRow returns the index in the caller's store of pattern i.
+func (s *sample) callerRow(i int) int {
+	if s.rows == nil {
+		return i
+	}
+	return s.rows[i]
+}
+
+// layer holds the weights (units × width, row-major) and biases of the
+// output units.
+type layer struct {
+	weights []float64
+	biases  []float64
+	width   int
+}
+
+func newLayer(units, width int) layer {
+	return layer{weights: make([]float64, units*width), biases: make([]float64, units), width: width}
+}
+
+// unit returns unit j's weights.
+func (l layer) unit(j int) []float64 {
+	return l.weights[j*l.width : (j+1)*l.width : (j+1)*l.width]
+}
+
+func (l layer) copyFrom(src layer) {
+	copy(l.weights, src.weights)
+	copy(l.biases, src.biases)
+}
+
+func (l layer) clear() {
+	clear(l.weights)
+	clear(l.biases)
+}
+
+func (l layer) finite() bool {
+	for _, w := range l.weights {
+		if !finite(w) {
+			return false
+		}
+	}
+	for _, b := range l.biases {
+		if !finite(b) {
+			return false
+		}
+	}
+	return true
+}
+
 // trainer holds one run's state and every buffer it needs, so that an
 // epoch allocates nothing but the goroutines of a parallel measurement.
 type trainer struct {
-	store   Store
-	kernels RowKernels // the store's fast path, or nil
-	row     []float64  // scratch row of the training pass, for stores that copy
-	n       int        // patterns
-	classes []int
+	train   sample  // the patterns trained on
+	holdout *sample // the held-out patterns, or nil
+	row     []float64
 	rule    Rule
 	opts    Options
 	onePass bool // the rule is OnePass: one epoch
 	result  Result
 
 	net     *Network
-	weights []float64 // units × width, the storage of net.Weights
-	biases  []float64 // net.Biases
+	current layer // the weights the updates change; Network's storage
+	// Averaging (online, not LastIterate): sums of the weights after every
+	// update of the epochs since the last power of two (cur) and of the
+	// epochs of the power-of-two block before (prev), and their mean.
+	averaging           bool
+	sumCur, sumPrev     layer
+	countCur, countPrev int
+	average             layer
+	averageFrom         int // first epoch of average
+
+	best            layer // with a holdout: the kept weights of the best epoch
+	bestAverageFrom int
 
 	order []int // online visiting order
 	pcg   *rand.PCG
 	rng   *rand.Rand
 
-	sumWeights []float64 // batch accumulators, units × width
-	sumBiases  []float64
-	outputs    []float64 // per unit: net inputs, then outputs
-	steps      []float64 // per unit: a pattern's steps (online) or signals (batch)
+	sums    layer     // batch and one-pass accumulators
+	outputs []float64 // per unit: net inputs, then outputs
+	steps   []float64 // per unit: a pattern's steps (online) or signals (batch)
 
 	updates UpdateRecorder // Recorder, when it records updates
 	update  Update         // handed to updates, its slices reused
@@ -189,42 +335,55 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 	if !unit.valid() {
 		return nil, fmt.Errorf("fit: unknown unit %d", int(unit))
 	}
+	onePass := isOnePass(opts.Rule)
+	if onePass {
+		// One pass of updates that ignore the weights: nothing to decay,
+		// average or stop early.
+		opts.Epochs, opts.Decay, opts.L2, opts.Holdout = 1, 0, 0, 0
+	}
 
-	rate, lambdaMax, traceR, err := autoRate(ctx, p, opts.Batch)
+	t := &trainer{rule: opts.Rule, opts: opts, onePass: onePass, train: newSample(p, classes, nil)}
+	if opts.Holdout > 0 {
+		trainRows, heldRows, err := holdoutSplit(classes, numClasses, opts.Holdout, opts.Seed)
+		if err != nil {
+			return nil, err
+		}
+		t.train = newSample(Subset(p, trainRows), pick(classes, trainRows), trainRows)
+		t.holdout = &sample{}
+		*t.holdout = newSample(Subset(p, heldRows), pick(classes, heldRows), heldRows)
+		t.result.HoldoutRows = len(heldRows)
+	}
+
+	spec, err := spectrum(ctx, t.train.store)
 	if err != nil {
 		return nil, err
 	}
 	auto := opts.Rate == 0
-	onePass := false
-	if op, ok := opts.Rule.(OnePass); ok && op.OnePass() {
-		onePass, opts.Epochs = true, 1
-		if auto {
-			rate = 1 / float64(n)
-		}
+	rate := opts.Rate
+	if auto {
+		rate = autoRate(spec, opts, len(t.train.classes))
 	}
-	if !auto {
-		rate = opts.Rate
+	bound, boundName := spec.Bound(opts)
+	t.result.Rate, t.result.RateAuto = rate, auto
+	t.result.LambdaMax, t.result.TraceR, t.result.RowMax = spec.LambdaMax, spec.TraceR, spec.RowMax
+	t.result.Bound, t.result.BoundName = bound, boundName
+	if boundName != BoundNone {
+		t.result.BoundFormula = boundText(boundName, opts.L2)
+	}
+	if opts.Warn != nil && !auto && boundName != BoundNone && rate >= bound {
+		opts.Warn(fmt.Sprintf("rate %.4g is at or above %s; training may diverge", rate, t.crossed(rate)))
 	}
 
 	units, width := unitCount(numClasses), p.Inputs()
-	t := &trainer{
-		store:   p,
-		n:       n,
-		classes: classes,
-		rule:    opts.Rule,
-		opts:    opts,
-		onePass: onePass,
-		result:  Result{Rate: rate, RateAuto: auto, LambdaMax: lambdaMax, TraceR: traceR},
-		weights: make([]float64, units*width),
-		biases:  make([]float64, units),
-		outputs: make([]float64, units),
-		steps:   make([]float64, units),
-
-		chunkStats: make([]EpochStats, (n+measureChunk-1)/measureChunk),
+	t.current = newLayer(units, width)
+	t.outputs = make([]float64, units)
+	t.steps = make([]float64, units)
+	chunks := (len(t.train.classes) + measureChunk - 1) / measureChunk
+	if t.holdout != nil {
+		chunks = max(chunks, (len(t.holdout.classes)+measureChunk-1)/measureChunk)
 	}
-	if k, ok := p.(RowKernels); ok {
-		t.kernels = k
-	} else {
+	t.chunkStats = make([]EpochStats, chunks)
+	if t.train.kernels == nil {
 		t.row = make([]float64, width)
 	}
 	t.net = &Network{
@@ -235,26 +394,32 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 		On:      on,
 		Off:     off,
 		Weights: make([][]float64, units),
-		Biases:  t.biases,
+		Biases:  t.current.biases,
 	}
 	for j := range units {
-		t.net.Weights[j] = t.weights[j*width : (j+1)*width : (j+1)*width]
+		t.net.Weights[j] = t.current.unit(j)
 	}
-	for range min(opts.Workers, len(t.chunkStats)) {
+	for range min(opts.Workers, chunks) {
 		t.chunkOutputs = append(t.chunkOutputs, make([]float64, units))
 		var row []float64
-		if t.kernels == nil {
+		if t.train.kernels == nil || (t.holdout != nil && t.holdout.kernels == nil) {
 			row = make([]float64, width)
 		}
 		t.chunkRows = append(t.chunkRows, row)
 	}
 	if opts.Batch || onePass {
-		t.sumWeights = make([]float64, units*width)
-		t.sumBiases = make([]float64, units)
+		t.sums = newLayer(units, width)
 	} else {
-		t.order = make([]int, n)
+		t.order = make([]int, len(t.train.classes))
 		t.pcg = rand.NewPCG(opts.Seed, 0)
 		t.rng = rand.New(t.pcg)
+		if !opts.LastIterate {
+			t.averaging = true
+			t.sumCur, t.sumPrev, t.average = newLayer(units, width), newLayer(units, width), newLayer(units, width)
+		}
+	}
+	if t.holdout != nil {
+		t.best = newLayer(units, width)
 	}
 	if u, ok := opts.Recorder.(UpdateRecorder); ok {
 		t.updates = u
@@ -268,10 +433,50 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 	return t, nil
 }
 
+// holdoutSplit divides the patterns of the given classes into those
+// trained on and those held out, both ascending: per class, a fraction
+// of its patterns rounded to the nearest count, chosen by a PCG seeded
+// with (seed, 0) (the epochs' orders use the streams from 1), keeping at
+// least one pattern of each class to train on.
+func holdoutSplit(classes []int, numClasses int, fraction float64, seed uint64) (trainRows, heldRows []int, err error) {
+	byClass := make([][]int, numClasses)
+	for i, c := range classes {
+		byClass[c] = append(byClass[c], i)
+	}
+	rng := rand.New(rand.NewPCG(seed, 0))
+	for _, rows := range byClass {
+		held := min(int(math.Round(fraction*float64(len(rows)))), max(len(rows)-1, 0))
+		rng.Shuffle(len(rows), func(i, j int) { rows[i], rows[j] = rows[j], rows[i] })
+		heldRows = append(heldRows, rows[:held]...)
+		trainRows = append(trainRows, rows[held:]...)
+	}
+	if len(heldRows) == 0 {
+		return nil, nil, fmt.Errorf("fit: a holdout of %v of %d patterns holds out none: give a larger fraction, or none", fraction, len(classes))
+	}
+	slices.Sort(trainRows)
+	slices.Sort(heldRows)
+	return trainRows, heldRows, nil
+}
+
+// pick returns the classes of the given rows.
+func pick(classes, rows []int) []int {
+	out := make([]int, len(rows))
+	for i, r := range rows {
+		out[i] = classes[r]
+	}
+	return out
+}
+
 // setDefaults fills in the defaults of o and checks what is left.
 func (o *Options) setDefaults() error {
 	if o.Rule == nil {
 		o.Rule = Delta{}
+	}
+	nonNegative := func(name string, v float64) error {
+		if math.IsNaN(v) || math.IsInf(v, 0) || v < 0 {
+			return fmt.Errorf("fit: %s %v: want a finite value ≥ 0", name, v)
+		}
+		return nil
 	}
 	switch {
 	case o.Epochs < 0:
@@ -279,13 +484,28 @@ func (o *Options) setDefaults() error {
 	case o.Epochs == 0:
 		o.Epochs = DefaultEpochs
 	}
-	switch {
-	case math.IsNaN(o.Rate) || math.IsInf(o.Rate, 0) || o.Rate < 0:
+	if math.IsNaN(o.Rate) || math.IsInf(o.Rate, 0) || o.Rate < 0 {
 		return fmt.Errorf("fit: learning rate %v: want a finite rate ≥ 0 (0 is automatic)", o.Rate)
-	case math.IsNaN(o.Tolerance) || math.IsInf(o.Tolerance, 0) || o.Tolerance < 0:
-		return fmt.Errorf("fit: tolerance %v: want a finite tolerance ≥ 0", o.Tolerance)
-	case o.Tolerance == 0:
+	}
+	for _, v := range []struct {
+		name  string
+		value float64
+	}{{"tolerance", o.Tolerance}, {"decay", o.Decay}, {"weight decay (L2)", o.L2}} {
+		if err := nonNegative(v.name, v.value); err != nil {
+			return err
+		}
+	}
+	if o.Tolerance == 0 {
 		o.Tolerance = DefaultTolerance
+	}
+	if !(o.Holdout >= 0 && o.Holdout < 1) {
+		return fmt.Errorf("fit: holdout fraction %v: want at least 0 and below 1", o.Holdout)
+	}
+	switch {
+	case o.Patience < 0:
+		return fmt.Errorf("fit: negative patience %d", o.Patience)
+	case o.Patience == 0:
+		o.Patience = DefaultPatience
 	}
 	switch {
 	case o.Workers < 0:
@@ -297,7 +517,7 @@ func (o *Options) setDefaults() error {
 		if !o.KeepGoing {
 			o.Stop = append(o.Stop, ZeroErrors{})
 		}
-		o.Stop = append(o.Stop, LossChange{Tolerance: o.Tolerance})
+		o.Stop = append(o.Stop, Plateau{Tolerance: o.Tolerance, Patience: o.Patience, Holdout: o.Holdout > 0})
 	}
 	for k, rule := range o.Stop {
 		if rule == nil {
@@ -307,45 +527,144 @@ func (o *Options) setDefaults() error {
 	return nil
 }
 
+// boundText names a stability bound as a formula, with the weight decay
+// when there is one.
+func boundText(name string, l2 float64) string {
+	size := "λmax"
+	if name == BoundEveryRow {
+		size = "max‖x̃‖²"
+	}
+	if l2 == 0 {
+		return "2/" + size
+	}
+	return fmt.Sprintf("2/(%s + l2)", size)
+}
+
+// crossed names the largest stability bound that rate is at or above,
+// with its value and what it guarantees: the mean bound 2/(λmax + l2)
+// (Widrow & Stearns 1985), or, online, the every-row bound
+// 2/(max‖x̃‖² + l2) (Nagumo & Noda 1967). It names the bound of the mode
+// when rate is below both.
+func (t *trainer) crossed(rate float64) string {
+	l2 := t.opts.L2
+	mean := 2 / (t.result.LambdaMax + l2)
+	name, bound := t.result.BoundName, t.result.Bound
+	if rate >= mean {
+		name, bound = BoundMean, mean
+	}
+	what := "the bound for a stable update on every row"
+	if name == BoundMean {
+		what = "the bound for convergence in the mean"
+	}
+	return fmt.Sprintf("%s = %.4g, %s", boundText(name, l2), bound, what)
+}
+
+// divergence returns the error of a run that diverged in epoch.
+func (t *trainer) divergence(epoch int) error {
+	rate := t.epochRate(epoch)
+	if t.result.BoundName == BoundNone {
+		return fmt.Errorf("%w at epoch %d (rate %.4g; no stability bound applies to a one-pass rule)", ErrDiverged, epoch, rate)
+	}
+	relation := "is at or above"
+	if rate < t.result.Bound && rate < 2/(t.result.LambdaMax+t.opts.L2) {
+		relation = "is below"
+	}
+	return fmt.Errorf("%w at epoch %d (rate %.4g %s %s)", ErrDiverged, epoch, rate, relation, t.crossed(rate))
+}
+
+// epochRate returns the rate of epoch (from 1), lowered by Decay.
+func (t *trainer) epochRate(epoch int) float64 {
+	if t.opts.Decay == 0 {
+		return t.result.Rate
+	}
+	return t.result.Rate / (1 + t.opts.Decay*float64(epoch-1))
+}
+
 func (t *trainer) run(ctx context.Context) (*Result, error) {
 	for epoch := 1; epoch <= t.opts.Epochs; epoch++ {
 		stats, err := t.epoch(ctx, epoch)
 		if err != nil {
 			return nil, err
 		}
+		t.track(&stats)
 		t.result.History = append(t.result.History, stats)
 		if t.opts.Recorder != nil {
 			if err := t.opts.Recorder.RecordEpoch(stats); err != nil {
 				return nil, fmt.Errorf("fit: recorder at epoch %d: %w", epoch, err)
 			}
 		}
-		if !t.weightsFinite() || !finite(stats.Loss) || stats.Loss > divergedLoss {
-			return nil, fmt.Errorf("%w at epoch %d (rate %.4g, stable below 2/λmax = %.4g)",
-				ErrDiverged, epoch, t.result.Rate, 2/t.result.LambdaMax)
+		if !t.current.finite() || (t.averaging && !t.average.finite()) || !finite(stats.Loss) || stats.Loss > divergedLoss {
+			return nil, t.divergence(epoch)
 		}
-		if t.result.Stop = t.stopReason(); t.result.Stop != "" {
+		if t.result.Stop, t.result.StopRule = t.stopReason(); t.result.Stop != "" {
 			break
 		}
 	}
+	t.keep()
 	t.result.Network = t.net
 	return &t.result, nil
 }
 
-// stopReason returns why training ends after the last epoch of the
-// history, or "" to go on.
-func (t *trainer) stopReason() string {
-	if t.onePass {
-		return StopOnePass
+// track fills in the best losses of stats, the last epoch's, and with a
+// holdout keeps the weights of an epoch with a lower held-out loss than
+// any before.
+func (t *trainer) track(stats *EpochStats) {
+	stats.BestLoss, stats.BestHoldoutLoss = stats.Loss, stats.Holdout.Loss
+	if n := len(t.result.History); n > 0 {
+		last := t.result.History[n-1]
+		stats.BestLoss = min(stats.BestLoss, last.BestLoss)
+		stats.BestHoldoutLoss = min(stats.BestHoldoutLoss, last.BestHoldoutLoss)
 	}
-	for _, rule := range t.opts.Stop {
-		if reason := rule.Converged(t.result.History); reason != "" {
-			return reason
+	if t.holdout != nil && (t.result.Epoch == 0 || stats.Holdout.Loss < t.result.History[t.result.Epoch-1].Holdout.Loss) {
+		t.best.copyFrom(t.kept())
+		t.result.Epoch, t.bestAverageFrom = stats.Epoch, t.averageFrom
+	}
+}
+
+// kept returns the weights the run would return now: the average when it
+// averages, else the current weights.
+func (t *trainer) kept() layer {
+	if t.averaging {
+		return t.average
+	}
+	return t.current
+}
+
+// keep puts the weights the run returns into the network's storage.
+func (t *trainer) keep() {
+	switch {
+	case t.holdout != nil:
+		t.current.copyFrom(t.best)
+		if t.averaging {
+			t.result.AverageFrom = t.bestAverageFrom
+		}
+	case t.averaging:
+		t.current.copyFrom(t.average)
+		t.result.AverageFrom = t.averageFrom
+		t.result.Epoch = len(t.result.History)
+	default:
+		t.result.Epoch = len(t.result.History)
+	}
+}
+
+// stopReason returns why training ends after the last epoch of the
+// history and the rule's words, or "" to go on.
+func (t *trainer) stopReason() (reason, rule string) {
+	if t.onePass {
+		return StopOnePass, "one pass of a rule whose update ignores the weights"
+	}
+	for _, c := range t.opts.Stop {
+		if reason := c.Converged(t.result.History); reason != "" {
+			if s, ok := c.(fmt.Stringer); ok {
+				return reason, s.String()
+			}
+			return reason, reason
 		}
 	}
 	if len(t.result.History) == t.opts.Epochs {
-		return StopEpochs
+		return StopEpochs, fmt.Sprintf("the limit of %d epochs", t.opts.Epochs)
 	}
-	return ""
+	return "", ""
 }
 
 // stopped returns the error of a run whose context is done, or nil.
@@ -373,14 +692,45 @@ func (t *trainer) epoch(ctx context.Context, epoch int) (EpochStats, error) {
 	if err != nil {
 		return EpochStats{}, err
 	}
-	stats := t.measure(ctx, epoch)
+	if t.averaging {
+		t.averageThrough(epoch)
+	}
+	stats := EpochStats{Epoch: epoch}
+	stats.Loss, stats.Errors = t.measure(ctx, &t.train, t.kept())
+	if t.holdout != nil {
+		stats.Holdout.Rows = len(t.holdout.classes)
+		stats.Holdout.Loss, stats.Holdout.Errors = t.measure(ctx, t.holdout, t.kept())
+	}
 	return stats, stopped(ctx, epoch)
+}
+
+// averageThrough closes epoch for averaging: its updates' weights are in
+// sumCur. After an epoch that is a power of two, 2^k, the block of epochs
+// (2^(k−1), 2^k] becomes the previous block and a new block starts, so
+// the average after epoch e ≥ 2 is over the epochs (2^(⌊log₂ e⌋−1), e]:
+// at least the last half of the epochs run and at most the last three
+// quarters.
+func (t *trainer) averageThrough(epoch int) {
+	t.countCur += len(t.order)
+	if epoch&(epoch-1) == 0 {
+		t.sumPrev, t.sumCur = t.sumCur, t.sumPrev
+		t.countPrev, t.countCur = t.countCur, 0
+		t.sumCur.clear()
+		t.averageFrom = epoch/2 + 1
+	}
+	inverse := 1 / float64(t.countPrev+t.countCur)
+	for i, w := range t.sumPrev.weights {
+		t.average.weights[i] = (w + t.sumCur.weights[i]) * inverse
+	}
+	for j, b := range t.sumPrev.biases {
+		t.average.biases[j] = (b + t.sumCur.biases[j]) * inverse
+	}
 }
 
 // target returns unit j's target for a pattern of class c.
 func (t *trainer) target(j, c int) float64 {
 	member := c == j
-	if len(t.biases) == 1 {
+	if len(t.current.biases) == 1 {
 		member = c == 1
 	}
 	if member {
@@ -397,58 +747,59 @@ func (t *trainer) target(j, c int) float64 {
 
 // rowOf returns pattern i, written into buf by a store that copies, or nil
 // when the store's kernels stand in for it.
-func (t *trainer) rowOf(i int, buf []float64) []float64 {
-	if t.kernels != nil {
+func (s *sample) rowOf(i int, buf []float64) []float64 {
+	if s.kernels != nil {
 		return nil
 	}
-	return t.store.RowTo(buf, i)
+	return s.store.RowTo(buf, i)
 }
 
-// netInputsTo stores the net input w_j·x + b_j of every unit j for pattern
-// i, whose row is x, in dst.
-func (t *trainer) netInputsTo(dst []float64, i int, x []float64) {
-	width := len(t.weights) / len(t.biases)
-	if t.kernels != nil {
+// netInputsTo stores the net input w_j·x + b_j of every unit j of l for
+// pattern i, whose row is x, in dst.
+func (s *sample) netInputsTo(dst []float64, l layer, i int, x []float64) {
+	if s.kernels != nil {
 		for j := range dst {
-			dst[j] = t.kernels.DotRow(i, t.weights[j*width:(j+1)*width]) + t.biases[j]
+			dst[j] = s.kernels.DotRow(i, l.unit(j)) + l.biases[j]
 		}
 		return
 	}
 	for j := range dst {
-		dst[j] = dot(t.weights[j*width:(j+1)*width], x) + t.biases[j]
+		dst[j] = dot(l.unit(j), x) + l.biases[j]
 	}
 }
 
-// addRowTo adds steps[j] times pattern i, whose row is x, to row j of dst
-// (units × inputs) for every unit j; with skipZero, a zero step is not
-// added.
-func (t *trainer) addRowTo(dst, steps []float64, i int, x []float64, skipZero bool) {
-	width := len(dst) / len(steps)
+// addRowTo adds steps[j] times pattern i, whose row is x, to unit j's
+// weights of l for every unit j; with skipZero, a zero step is not added.
+func (s *sample) addRowTo(l layer, steps []float64, i int, x []float64, skipZero bool) {
 	for j, step := range steps {
 		if skipZero && step == 0 {
 			continue
 		}
-		if t.kernels != nil {
-			t.kernels.AxpyRow(step, i, dst[j*width:(j+1)*width])
+		if s.kernels != nil {
+			s.kernels.AxpyRow(step, i, l.unit(j))
 		} else {
-			axpy(step, x, dst[j*width:(j+1)*width])
+			axpy(step, x, l.unit(j))
 		}
 	}
 }
 
 // onlineEpoch updates the weights after each pattern, visiting them in an
-// order drawn from a PCG seeded by (Seed, epoch).
+// order drawn from a PCG seeded by (Seed, epoch). With L2 each update
+// first shrinks the weights; when averaging, the weights after each update
+// are added to sumCur.
 func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 	t.shuffle(epoch)
-	rate := t.result.Rate
+	rate := t.epochRate(epoch)
+	shrink := 1 - rate*t.opts.L2
+	s := &t.train
 	for k, i := range t.order {
 		if k%ctxRows == ctxRows-1 {
 			if err := stopped(ctx, epoch); err != nil {
 				return err
 			}
 		}
-		x, c := t.rowOf(i, t.row), t.classes[i]
-		t.netInputsTo(t.outputs, i, x)
+		x, c := s.rowOf(i, t.row), s.classes[i]
+		s.netInputsTo(t.outputs, t.current, i, x)
 		for j, z := range t.outputs {
 			target := t.target(j, c)
 			output := t.net.Unit.activate(z)
@@ -457,11 +808,18 @@ func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, t.steps[j]
 			}
 		}
-		t.addRowTo(t.weights, t.steps, i, x, true)
+		if t.opts.L2 != 0 {
+			scale(shrink, t.current.weights)
+		}
+		s.addRowTo(t.current, t.steps, i, x, true)
 		for j, step := range t.steps {
 			if step != 0 {
-				t.biases[j] += step
+				t.current.biases[j] += step
 			}
+		}
+		if t.averaging {
+			axpy(1, t.current.weights, t.sumCur.weights)
+			axpy(1, t.current.biases, t.sumCur.biases)
 		}
 		if t.updates != nil {
 			t.recordUpdate(epoch, i)
@@ -470,10 +828,10 @@ func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 	return nil
 }
 
-// recordUpdate hands the update of pattern i, whose per-unit values are
-// in t.update, to the update recorder.
+// recordUpdate hands the update of pattern i of the training sample, whose
+// per-unit values are in t.update, to the update recorder.
 func (t *trainer) recordUpdate(epoch, i int) {
-	t.update.Epoch, t.update.Row, t.update.Class = epoch, i, t.classes[i]
+	t.update.Epoch, t.update.Row, t.update.Class = epoch, t.train.callerRow(i), t.train.classes[i]
 	t.updates.RecordUpdate(&t.update)
 }
 
@@ -489,14 +847,19 @@ func (t *trainer) shuffle(epoch int) {
 }
 
 // batchEpoch applies the mean of the per-pattern updates once, all computed
-// with the weights the epoch starts with.
+// with the weights the epoch starts with; with L2 the weights are first
+// shrunk by 1 − rate·L2.
 func (t *trainer) batchEpoch(ctx context.Context, epoch int) error {
-	step := t.result.Rate / float64(t.n)
+	rate := t.epochRate(epoch)
+	step := rate / float64(len(t.train.classes))
 	if err := t.sumUpdates(ctx, epoch, step); err != nil {
 		return err
 	}
-	axpy(step, t.sumWeights, t.weights)
-	axpy(step, t.sumBiases, t.biases)
+	if t.opts.L2 != 0 {
+		scale(1-rate*t.opts.L2, t.current.weights)
+	}
+	axpy(step, t.sums.weights, t.current.weights)
+	axpy(step, t.sums.biases, t.current.biases)
 	return nil
 }
 
@@ -508,8 +871,8 @@ func (t *trainer) onePassEpoch(ctx context.Context, epoch int) error {
 	if err := t.sumUpdates(ctx, epoch, t.result.Rate); err != nil {
 		return err
 	}
-	axpy(t.result.Rate, t.sumWeights, t.weights)
-	axpy(t.result.Rate, t.sumBiases, t.biases)
+	axpy(t.result.Rate, t.sums.weights, t.current.weights)
+	axpy(t.result.Rate, t.sums.biases, t.current.biases)
 	return nil
 }
 
@@ -517,16 +880,16 @@ func (t *trainer) onePassEpoch(ctx context.Context, epoch int) error {
 // the weights the epoch starts with. rate is the factor the sums will be
 // applied with, which the recorded updates' steps include.
 func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error {
-	clear(t.sumWeights)
-	clear(t.sumBiases)
-	for i, c := range t.classes {
+	t.sums.clear()
+	s := &t.train
+	for i, c := range s.classes {
 		if i%ctxRows == ctxRows-1 {
 			if err := stopped(ctx, epoch); err != nil {
 				return err
 			}
 		}
-		x := t.rowOf(i, t.row)
-		t.netInputsTo(t.outputs, i, x)
+		x := s.rowOf(i, t.row)
+		s.netInputsTo(t.outputs, t.current, i, x)
 		for j, z := range t.outputs {
 			target := t.target(j, c)
 			output := t.net.Unit.activate(z)
@@ -535,9 +898,9 @@ func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error
 				t.update.Targets[j], t.update.Outputs[j], t.update.Steps[j] = target, output, rate*t.steps[j]
 			}
 		}
-		t.addRowTo(t.sumWeights, t.steps, i, x, false)
+		s.addRowTo(t.sums, t.steps, i, x, false)
 		for j, signal := range t.steps {
-			t.sumBiases[j] += signal
+			t.sums.biases[j] += signal
 		}
 		if t.updates != nil {
 			t.recordUpdate(epoch, i)
@@ -546,21 +909,23 @@ func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error
 	return nil
 }
 
-// measure returns the loss and the error count with the current weights.
+// measure returns the loss and the error count of the weights l on the
+// patterns of s.
 //
 // The rows are measured in chunks of measureChunk, whose sums are added in
 // chunk order, so the result is the same however many goroutines measure:
 // up to Options.Workers (and the number of chunks). Once ctx is done no
 // chunk is started, and the result is not to be used.
-func (t *trainer) measure(ctx context.Context, epoch int) EpochStats {
-	chunks := (t.n + measureChunk - 1) / measureChunk
+func (t *trainer) measure(ctx context.Context, s *sample, l layer) (loss float64, errors int) {
+	n := len(s.classes)
+	chunks := (n + measureChunk - 1) / measureChunk
 	workers := min(chunks, len(t.chunkOutputs))
 	if workers <= 1 {
 		for k := range chunks {
 			if ctx.Err() != nil {
 				break
 			}
-			t.chunkStats[k] = t.measureChunk(k, t.outputs, t.row)
+			t.chunkStats[k] = t.measureChunk(s, l, k, t.outputs, t.rowBuffer(s, 0))
 		}
 	} else {
 		var next atomic.Int64
@@ -570,32 +935,42 @@ func (t *trainer) measure(ctx context.Context, epoch int) EpochStats {
 			go func(outputs, row []float64) {
 				defer wg.Done()
 				for k := int(next.Add(1) - 1); k < chunks && ctx.Err() == nil; k = int(next.Add(1) - 1) {
-					t.chunkStats[k] = t.measureChunk(k, outputs, row)
+					t.chunkStats[k] = t.measureChunk(s, l, k, outputs, row)
 				}
-			}(t.chunkOutputs[w], t.chunkRows[w])
+			}(t.chunkOutputs[w], t.rowBuffer(s, w))
 		}
 		wg.Wait()
 	}
-	stats := EpochStats{Epoch: epoch}
 	for _, c := range t.chunkStats[:chunks] {
-		stats.Errors += c.Errors
-		stats.Loss += c.Loss
+		errors += c.Errors
+		loss += c.Loss
 	}
-	stats.Loss /= float64(t.n * len(t.outputs))
-	return stats
+	return loss / float64(n*len(t.outputs)), errors
+}
+
+// rowBuffer returns measuring goroutine w's scratch row for s: the
+// training pass's when w is 0 and the pass has one.
+func (t *trainer) rowBuffer(s *sample, w int) []float64 {
+	if s.kernels != nil {
+		return nil
+	}
+	if w == 0 && t.row != nil {
+		return t.row
+	}
+	return t.chunkRows[w]
 }
 
 // measureChunk is the rows per measurement chunk.
 const measureChunk = 4096
 
 // measureChunk returns the error count and the summed squared misses of
-// chunk k, using outputs and row as its scratch buffers. Its outputs and
-// decisions are those of Network.Classify.
-func (t *trainer) measureChunk(k int, outputs, row []float64) EpochStats {
+// the weights l on chunk k of s, using outputs and row as its scratch
+// buffers. Its outputs and decisions are those of Network.Classify.
+func (t *trainer) measureChunk(s *sample, l layer, k int, outputs, row []float64) EpochStats {
 	var stats EpochStats
-	for i := k * measureChunk; i < min((k+1)*measureChunk, t.n); i++ {
-		x, c := t.rowOf(i, row), t.classes[i]
-		t.netInputsTo(outputs, i, x)
+	for i := k * measureChunk; i < min((k+1)*measureChunk, len(s.classes)); i++ {
+		x, c := s.rowOf(i, row), s.classes[i]
+		s.netInputsTo(outputs, l, i, x)
 		for j, z := range outputs {
 			outputs[j] = t.net.Unit.activate(z)
 		}
@@ -608,18 +983,4 @@ func (t *trainer) measureChunk(k int, outputs, row []float64) EpochStats {
 		}
 	}
 	return stats
-}
-
-func (t *trainer) weightsFinite() bool {
-	for _, w := range t.weights {
-		if !finite(w) {
-			return false
-		}
-	}
-	for _, b := range t.biases {
-		if !finite(b) {
-			return false
-		}
-	}
-	return true
 }

@@ -35,19 +35,19 @@ func BenchmarkEpoch(b *testing.B) {
 	}
 }
 
-// BenchmarkAutoRate times the λmax and tr(R) computation, eigendecomposition
-// and power iteration.
+// BenchmarkAutoRate times the spectrum (λmax, tr(R), max‖x̃‖²),
+// eigendecomposition and power iteration.
 func BenchmarkAutoRate(b *testing.B) {
 	for _, inputs := range []int{64, 512} {
 		patterns, _ := noisyPatterns(1000, inputs, 2)
 		for _, method := range []struct {
 			name string
-			run  func(context.Context, Store) (float64, float64, error)
-		}{{"eigen", eigenLambdaMax}, {"power", powerLambdaMax}} {
+			run  func(context.Context, Store) (Spectrum, error)
+		}{{"eigen", eigenSpectrum}, {"power", powerSpectrum}} {
 			b.Run(fmt.Sprintf("inputs=%d/%s", inputs, method.name), func(b *testing.B) {
 				b.ReportAllocs()
 				for b.Loop() {
-					if _, _, err := method.run(context.Background(), patterns); err != nil {
+					if _, err := method.run(context.Background(), patterns); err != nil {
 						b.Fatal(err)
 					}
 				}

@@ -3,6 +3,7 @@ package fit
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"reflect"
@@ -48,23 +49,29 @@ func TestRateAboveStabilityBoundDiverges(t *testing.T) {
 	for _, data := range datasets(t) {
 		for _, batch := range []bool{false, true} {
 			t.Run(data.name+" "+modeName(batch), func(t *testing.T) {
-				_, lambdaMax, _, err := AutoRate(data.patterns, batch)
+				_, spec, err := AutoRate(data.patterns, Options{Batch: batch})
 				if err != nil {
 					t.Fatal(err)
 				}
 				// Widrow & Stearns 1985: LMS converges in the mean only for 0 < rate < 2/λmax;
 				// at ten times the bound the error along the top eigenvector grows every step.
-				rate := 10 * 2 / lambdaMax
+				rate := 10 * 2 / spec.LambdaMax
+				var warnings []string
 				result, err := Train(data.patterns, data.classes, data.numClasses,
-					Options{Unit: Linear, Rate: rate, Batch: batch, KeepGoing: true, Epochs: 1000})
+					Options{Unit: Linear, Rate: rate, Batch: batch, KeepGoing: true, Epochs: 1000,
+						Warn: func(m string) { warnings = append(warnings, m) }})
 				if !errors.Is(err, ErrDiverged) {
 					t.Fatalf("err = %v, want ErrDiverged", err)
 				}
 				if result != nil {
 					t.Errorf("got a result %+v alongside ErrDiverged", result)
 				}
-				if msg := err.Error(); !strings.HasPrefix(msg, "fit: weights diverged at epoch ") || !strings.Contains(msg, "stable below 2/λmax = ") {
-					t.Errorf("message %q lacks the epoch or the bound", msg)
+				bound := fmt.Sprintf("2/λmax = %.4g, the bound for convergence in the mean", 2/spec.LambdaMax)
+				if msg := err.Error(); !strings.HasPrefix(msg, "fit: weights diverged at epoch ") || !strings.Contains(msg, "is at or above "+bound) {
+					t.Errorf("message %q lacks the epoch or the bound %q", msg, bound)
+				}
+				if len(warnings) != 1 || !strings.Contains(warnings[0], bound) {
+					t.Errorf("warnings %q, want one naming %q", warnings, bound)
 				}
 			})
 		}
@@ -75,23 +82,115 @@ func TestAutomaticRateStable(t *testing.T) {
 	for _, data := range datasets(t) {
 		for _, opts := range []Options{
 			{Unit: Linear}, {Unit: Logistic}, {Unit: Linear, Batch: true}, {Unit: Logistic, Batch: true},
+			{Unit: Linear, L2: 0.1}, {Unit: Linear, LastIterate: true},
 		} {
-			name := data.name + " " + opts.Unit.String() + " " + modeName(opts.Batch)
+			name := fmt.Sprintf("%s %s %s l2 %v last %v", data.name, opts.Unit, modeName(opts.Batch), opts.L2, opts.LastIterate)
 			t.Run(name, func(t *testing.T) {
 				opts.KeepGoing, opts.Epochs = true, 300
+				opts.Warn = func(m string) { t.Errorf("warning for an automatic rate: %s", m) }
 				result, err := Train(data.patterns, data.classes, data.numClasses, opts)
 				if err != nil {
 					t.Fatalf("automatic rate failed: %v", err)
 				}
-				// Widrow & Stearns 1985: stable for rate < 2/λmax; 0.5/tr(R) and 1/λmax are below it.
-				if !result.RateAuto || !(result.Rate > 0) || result.Rate >= 2/result.LambdaMax {
-					t.Errorf("rate %v (auto %v), want in (0, 2/λmax = %v)", result.Rate, result.RateAuto, 2/result.LambdaMax)
+				// Widrow & Stearns 1985: stable in the mean for rate < 2/(λmax + λ); Nagumo & Noda
+				// 1967: every row's update stable for rate·(‖x̃‖² + λ) < 2. The automatic rate is
+				// half the bound of its mode.
+				bound, name := 2/(result.LambdaMax+opts.L2), BoundMean
+				if !opts.Batch {
+					bound, name = 2/(result.RowMax+opts.L2), BoundEveryRow
+				}
+				if !result.RateAuto || result.Rate != bound/2 || result.Bound != bound || result.BoundName != name {
+					t.Errorf("rate %v (auto %v), bound %v %s; want %v, %v %s", result.Rate, result.RateAuto,
+						result.Bound, result.BoundName, bound/2, bound, name)
 				}
 				if err := result.Network.Validate(); err != nil {
 					t.Error(err)
 				}
 			})
 		}
+	}
+}
+
+// outlierPatterns are the one-column patterns of a row far out: 99 values
+// drawn from N(0, 1) and one at 100, standardized (mean 0, mean square 1),
+// with class 1 for the values above 0. The outlier's ‖x̃‖² is about 100
+// while tr(R) = 2.
+func outlierPatterns() (Patterns, []int) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	values := make([]float64, 100)
+	for i := range 99 {
+		values[i] = rng.NormFloat64()
+	}
+	values[99] = 100
+	var mean, square float64
+	for _, v := range values {
+		mean += v / 100
+	}
+	for _, v := range values {
+		square += (v - mean) * (v - mean) / 100
+	}
+	classes := make([]int, 100)
+	for i, v := range values {
+		if v > 0 {
+			classes[i] = 1
+		}
+		values[i] = (v - mean) / math.Sqrt(square)
+	}
+	return Patterns{Width: 1, Values: values}, classes
+}
+
+// One row far out must not make the automatic rate diverge: the rate is
+// held under the bound of every row, not of the mean row. The rate of
+// tr(R) alone, 0.5/tr(R), makes the outlier's update overshoot by a
+// factor of about 25 and diverges.
+func TestAutomaticRateSurvivesAnOutlier(t *testing.T) {
+	p, classes := outlierPatterns()
+	_, spec, err := AutoRate(p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Hand algebra: standardized, mean ‖x̃‖² = 1 + 1; the outlier's z is about √99.
+	if math.Abs(spec.TraceR-2) > 1e-12 || spec.RowMax < 95 || spec.RowMax > 101 {
+		t.Fatalf("spectrum %+v, want tr(R) 2 and max ‖x̃‖² near 100", spec)
+	}
+	for _, tc := range []struct {
+		name    string
+		opts    Options
+		diverge bool
+	}{
+		{"automatic, averaged", Options{Unit: Linear, Seed: 1}, false},
+		{"automatic, last iterate", Options{Unit: Linear, Seed: 1, LastIterate: true}, false},
+		{"automatic, logistic", Options{Seed: 1}, false},
+		{"automatic, 1000 epochs", Options{Unit: Linear, Seed: 2, Epochs: 1000, KeepGoing: true, Tolerance: 1e-300}, false},
+		// Widrow & Stearns 1985's 0.5/tr(R), the rule of thumb this rate replaces.
+		{"0.5/tr(R)", Options{Unit: Linear, Seed: 1, Rate: 0.5 / spec.TraceR}, true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var warnings []string
+			tc.opts.Warn = func(m string) { warnings = append(warnings, m) }
+			res, err := Train(p, classes, 2, tc.opts)
+			if tc.diverge {
+				// λmax = 1 here, so the rate is below the mean bound 2/λmax: the bound
+				// crossed, and named, is the every-row one.
+				const bound = "2/max‖x̃‖² = "
+				if !errors.Is(err, ErrDiverged) || !strings.Contains(err.Error(), "is at or above "+bound) {
+					t.Errorf("err = %v, want ErrDiverged naming the every-row bound", err)
+				}
+				if len(warnings) != 1 || !strings.Contains(warnings[0], bound) || !strings.Contains(warnings[0], "the bound for a stable update on every row") {
+					t.Errorf("warnings %q, want one naming the every-row bound", warnings)
+				}
+				return
+			}
+			if len(warnings) != 0 {
+				t.Errorf("warnings %q for the automatic rate", warnings)
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.Rate*res.RowMax > 1 || res.BoundName != BoundEveryRow {
+				t.Errorf("rate %v · max ‖x̃‖² %v > 1, or bound %s", res.Rate, res.RowMax, res.BoundName)
+			}
+		})
 	}
 }
 

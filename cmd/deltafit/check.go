@@ -91,7 +91,7 @@ inputs), so a pipeline never passes on an unproven split.`,
 	opts.input.add(cmd.Flags())
 	opts.learn.add(cmd)
 	cmd.Flags().Lookup("seed").Usage = "seed of the error-correction passes and of the solver's perturbation"
-	for _, name := range []string{"rule", "unit", "epochs", "rate"} {
+	for _, name := range trainingFlags {
 		_ = cmd.Flags().MarkHidden(name) // training flags: check trains nothing
 	}
 	fs := cmd.Flags()

@@ -17,7 +17,7 @@ func TestExitCodes(t *testing.T) {
 		name string
 		args []string
 		code int
-		err  string // substring of the one stderr line
+		err  string // substring of the one stderr line after any warnings
 	}{
 		{"ok", []string{"fit", iris, "--target", "species"}, 0, ""},
 		{"no args", []string{"fit"}, 2, "fit takes one DATA argument"},
@@ -47,8 +47,14 @@ func TestExitCodes(t *testing.T) {
 				return
 			}
 			lines := strings.Split(strings.TrimRight(stderr.String(), "\n"), "\n")
-			if len(lines) != 1 || !strings.HasPrefix(lines[0], "deltafit: ") || !strings.Contains(lines[0], tc.err) {
-				t.Fatalf("stderr %q, want one line containing %q", stderr.String(), tc.err)
+			last := lines[len(lines)-1]
+			for _, w := range lines[:len(lines)-1] {
+				if !strings.HasPrefix(w, "deltafit: warning: ") {
+					t.Fatalf("stderr %q: %q before the last line is not a warning", stderr.String(), w)
+				}
+			}
+			if !strings.HasPrefix(last, "deltafit: ") || !strings.Contains(last, tc.err) {
+				t.Fatalf("stderr %q, want a last line containing %q", stderr.String(), tc.err)
 			}
 		})
 	}

@@ -8,8 +8,10 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 
 	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
 
 	"deltafit/evaluate"
 	"deltafit/export"
@@ -28,20 +30,59 @@ type learnFlags struct {
 	unit        string
 	epochs      int
 	rate        string
+	decay       float64
+	l2          float64
+	batch       bool
+	average     bool
+	tolerance   float64
+	holdout     float64
+	patience    int
 	seed        uint64
+
+	stopWhenSeparated bool
+
+	flags *pflag.FlagSet // where they were added, to tell given flags from defaults
 }
+
+// onePassFlags are the training flags that a one-pass rule (hebbian)
+// ignores: giving one with it is a usage error.
+var onePassFlags = []string{"unit", "epochs", "decay", "l2", "batch", "average", "tolerance", "holdout", "patience", "stop-when-separated"}
+
+// trainingFlags are the flags that only training reads.
+var trainingFlags = append([]string{"rule", "rate"}, onePassFlags...)
 
 func (f *learnFlags) add(cmd *cobra.Command) {
 	fs := cmd.Flags()
+	f.flags = fs
 	fs.StringVar(&f.target, "target", "", "name of the column holding the class (required)")
 	fs.StringSliceVar(&f.ignore, "ignore", nil, "columns to leave out, such as ids (comma-separated)")
 	fs.StringVar(&f.numeric, "numeric", "auto", "numeric encoding: auto[:K] (chosen on the training rows among zscore, thermometer:K and hybrid:K), thermometer[:K], onehot[:K], threshold[:V], zscore, minmax or hybrid[:K]")
 	fs.StringVar(&f.categorical, "categorical", "onehot:1", "categorical encoding: onehot[:MIN], values seen fewer than MIN times share the other unit")
-	fs.StringVar(&f.rule, "rule", "delta", "learning rule: delta, or hebbian (one pass, linear outputs: --epochs and --unit do not apply)")
+	fs.StringVar(&f.rule, "rule", "delta", "learning rule: delta, or hebbian (one pass, linear outputs: the flags from --unit to --patience do not apply)")
 	fs.StringVar(&f.unit, "unit", "logistic", "output unit: logistic or linear")
 	fs.IntVar(&f.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
-	fs.StringVar(&f.rate, "rate", "auto", `learning rate: a positive number, or "auto" to derive it from the inputs`)
-	fs.Uint64Var(&f.seed, "seed", 1, "seed for the order of updates and the folds")
+	fs.StringVar(&f.rate, "rate", "auto", `learning rate: a positive number, or "auto": online 1/(max‖x̃‖² + l2), half the bound under which every row's update is stable; --batch 1/(λmax + l2)`)
+	fs.Float64Var(&f.decay, "decay", 0, "lower the rate epoch by epoch: epoch e trains at rate/(1 + decay·(e−1)); 0 keeps it constant")
+	fs.Float64Var(&f.l2, "l2", 0, "weight decay λ: each update first shrinks the weights (not the biases) by 1 − rate·λ")
+	fs.BoolVar(&f.batch, "batch", false, "one update per epoch, the mean of the rows' updates (full-batch gradient descent), instead of one per row")
+	fs.BoolVar(&f.average, "average", true, "online: keep the average of the weights over the last half to three quarters of the epochs; --average=false keeps the last weights")
+	fs.Float64Var(&f.tolerance, "tolerance", fit.DefaultTolerance, "stop once the best loss has fallen by at most this fraction of itself over --patience epochs")
+	fs.Float64Var(&f.holdout, "holdout", 0, "hold out this fraction of each class, stop on its loss (early stopping) and keep the weights of its best epoch; 0: train on every row")
+	fs.IntVar(&f.patience, "patience", fit.DefaultPatience, "epochs the stop rule looks back over (on the held-out loss with --holdout)")
+	fs.BoolVar(&f.stopWhenSeparated, "stop-when-separated", false, "stop at the first epoch with no training errors; by default training goes on, which widens the margin of logistic units")
+	fs.Uint64Var(&f.seed, "seed", 1, "seed for the order of updates, the held-out rows and the folds")
+}
+
+// isOnePass reports whether rule makes one pass (fit.OnePass), ignoring
+// the flags of onePassFlags.
+func isOnePass(rule fit.Rule) bool {
+	op, ok := rule.(fit.OnePass)
+	return ok && op.OnePass()
+}
+
+// given reports whether the flag name was set on the command line.
+func (f *learnFlags) given(name string) bool {
+	return f.flags != nil && f.flags.Changed(name)
 }
 
 // learner turns the flags into a Learner, checking every value.
@@ -79,13 +120,47 @@ func (f *learnFlags) learner() (evaluate.Learner, error) {
 		}
 		l.Fit.Rate = rate
 	}
+	switch {
+	case !(f.decay >= 0 && f.decay <= maxRate):
+		return l, usagef("--decay %v: give a number from 0 (constant rate) to 1e6", f.decay)
+	case !(f.l2 >= 0 && f.l2 <= maxRate):
+		return l, usagef("--l2 %v: give a number from 0 (no weight decay) to 1e6", f.l2)
+	case !(f.tolerance > 0 && f.tolerance < 1):
+		return l, usagef("--tolerance %v: give a fraction above 0 and below 1", f.tolerance)
+	case !(f.holdout >= 0 && f.holdout <= 0.5):
+		return l, usagef("--holdout %v: give a fraction from 0 (no holdout) to 0.5", f.holdout)
+	case f.patience < 1:
+		return l, usagef("--patience %d: give at least 1 epoch", f.patience)
+	}
+	if isOnePass(l.Fit.Rule) {
+		for _, name := range onePassFlags {
+			if f.given(name) {
+				return l, usagef("--%s does not apply to --rule %s, which makes one pass with linear outputs", name, f.rule)
+			}
+		}
+	}
+	if f.batch && f.given("average") {
+		return l, usagef("--average applies to online training; --batch weights are not averaged")
+	}
+	l.Fit.Decay, l.Fit.L2, l.Fit.Batch, l.Fit.LastIterate = f.decay, f.l2, f.batch, !f.average
+	l.Fit.Tolerance, l.Fit.Holdout, l.Fit.Patience = f.tolerance, f.holdout, f.patience
+	// Training goes on past zero errors unless asked: on separable rows,
+	// descent on the logistic loss keeps turning the weights toward the
+	// widest margin (Soudry et al. 2018, from memory), where stopping at the
+	// first separating epoch keeps a margin close to zero.
+	l.Fit.KeepGoing = !f.stopWhenSeparated
 	l.Fit.Seed = f.seed
 	return l, nil
 }
 
+// modelOptions are the options as the model file records them, for flags
+// that learner accepted.
 func (f *learnFlags) modelOptions(kinds []string) export.Options {
+	rule, _ := fit.RuleByName(f.rule)
 	o := export.Options{
 		Rule: f.rule, Unit: f.unit, Epochs: f.epochs, Rate: f.rate,
+		Decay: f.decay, L2: f.l2, Batch: f.batch, Average: f.average && !f.batch && !isOnePass(rule), StopWhenSeparated: f.stopWhenSeparated,
+		Tolerance: f.tolerance, Holdout: f.holdout, Patience: f.patience,
 		Numeric: f.numeric, Categorical: f.categorical, Seed: f.seed,
 		Ignore: slices.Clone(f.ignore), Kinds: map[string]string{},
 	}
@@ -159,6 +234,7 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if err != nil {
 		return err
 	}
+	learner.Fit.Warn = warnOnce(stderr)
 	study, err := evaluate.RunStudy(ctx, d, learner, evaluate.StudyOptions{Folds: opts.folds, Repeats: opts.repeats, Seed: opts.learn.seed})
 	if err != nil {
 		return divergenceHint(err, opts.learn)
@@ -212,6 +288,17 @@ func loadDataset(input inputFlags, learn learnFlags, missing *missingPolicy, pat
 			tabular.DisplayName(path), learn.target, quoteJoin(same), learn.target)
 	}
 	return learner, d, sha, nil
+}
+
+// warnOnce returns a fit.Options.Warn that prints the first warning it
+// hears on stderr and drops the rest: the fit on all rows warns first,
+// and the folds of a cross-validation, which train on fewer rows of the
+// same data, would repeat it. It is safe for concurrent use.
+func warnOnce(stderr io.Writer) func(string) {
+	var once sync.Once
+	return func(message string) {
+		once.Do(func() { fmt.Fprintf(stderr, "deltafit: warning: %s\n", message) })
+	}
 }
 
 // maxRate is the largest --rate accepted (1e6 in the usage message).
