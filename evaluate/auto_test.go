@@ -1,35 +1,13 @@
 package evaluate
 
 import (
-	"bytes"
-	"os"
-	"path/filepath"
 	"reflect"
 	"testing"
 
 	"deltafit/fit"
-	"deltafit/ingest"
 	"deltafit/ingest/encode"
-	"deltafit/ingest/tabular"
+	"deltafit/internal/fixture"
 )
-
-// openDataset reads a table of testdata/open (see its PROVENANCE.md).
-func openDataset(t *testing.T, file, target string) *tabular.Dataset {
-	t.Helper()
-	data, err := os.ReadFile(filepath.Join("..", "testdata", "open", file))
-	if err != nil {
-		t.Fatal(err)
-	}
-	table, err := ingest.ReadTable(file, bytes.NewReader(data), ingest.ReadOptions{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := tabular.NewDataset(table, target, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return d
-}
 
 func TestAutoChoice(t *testing.T) {
 	auto, err := encode.ParseNumericEncoding("auto")
@@ -42,7 +20,7 @@ func TestAutoChoice(t *testing.T) {
 		// r-cran-mass crabs: species is linearly separable on the five
 		// measurements (base-R glm, testdata/open/PROVENANCE.md: 1.0 out of
 		// fold), so a candidate with a linear unit per column scores best.
-		d := openDataset(t, "crabs.csv", "species")
+		d := fixture.TestdataDataset(t, "open/crabs.csv", "species")
 		fitted, err := l.Train(d, nil)
 		if err != nil {
 			t.Fatal(err)
@@ -72,7 +50,7 @@ func TestAutoChoice(t *testing.T) {
 	})
 
 	t.Run("too few rows: the thermometer candidate, unscored", func(t *testing.T) {
-		d := openDataset(t, "crabs.csv", "species")
+		d := fixture.TestdataDataset(t, "open/crabs.csv", "species")
 		rows := []int{0, 1, 2, 3, 4, 100, 101, 102, 103, 104}
 		fitted, err := l.Train(d, rows)
 		if err != nil {
@@ -84,7 +62,7 @@ func TestAutoChoice(t *testing.T) {
 	})
 
 	t.Run("deterministic", func(t *testing.T) {
-		d := openDataset(t, "birthwt.csv", "low")
+		d := fixture.TestdataDataset(t, "open/birthwt.csv", "low")
 		first, err := l.Train(d, nil)
 		if err != nil {
 			t.Fatal(err)

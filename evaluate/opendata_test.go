@@ -7,6 +7,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"testing"
+
+	"deltafit/internal/fixture"
 )
 
 // referenceAccuracy reads the pooled 10-fold accuracy of base R's linear
@@ -56,7 +58,7 @@ func TestDefaultAgainstBaseR(t *testing.T) {
 			if testing.Short() && (tc.dataset == "spam" || tc.dataset == "mlc_churn") {
 				t.Skip("a few seconds each; skipped with -short")
 			}
-			d := openDataset(t, tc.file, tc.target)
+			d := fixture.TestdataDataset(t, "open/"+tc.file, tc.target)
 			s, err := RunStudy(context.Background(), d, DefaultLearner(1), StudyOptions{Folds: 10, Seed: 1})
 			if err != nil {
 				t.Fatal(err)

@@ -6,34 +6,18 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"os"
-	"path/filepath"
 	"slices"
 	"strings"
 	"testing"
 
-	"deltafit/ingest"
 	"deltafit/ingest/tabular"
+	"deltafit/internal/fixture"
 )
 
 // readDataset reads a reference table from the repository's testdata.
 func readDataset(t *testing.T, name, target string) *tabular.Dataset {
 	t.Helper()
-	path := filepath.Join("..", "..", "testdata", name)
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	table, err := ingest.ReadTable(name, f, ingest.ReadOptions{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := tabular.NewDataset(table, target, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return d
+	return fixture.TestdataDataset(t, name, target)
 }
 
 // split returns the rows of class positive and of every other class.
