@@ -68,7 +68,10 @@ func (r *TableReader) Next() bool {
 	}
 	rec := r.rr.RecordBatch()
 	n := int(rec.NumRows())
-	t := &tabular.Table{Name: r.name, Rows: n, Columns: make([]*tabular.Column, len(r.builders)), RowNumbers: make([]int, n)}
+	t := &tabular.Table{Name: r.name, Rows: n, Columns: make([]*tabular.Column, len(r.builders)), RowNumbers: make([]int, n), ColumnNumbers: make([]int, len(r.builders))}
+	for k, i := range r.index {
+		t.ColumnNumbers[k] = i + 1
+	}
 	for i := range t.RowNumbers {
 		t.RowNumbers[i] = r.rows + i + 1
 	}
@@ -121,8 +124,8 @@ func (r *TableReader) finish() {
 }
 
 // Table returns the current batch: the chosen columns found in the input,
-// in the order asked for, with the rows' numbers in the input
-// (Table.RowNumbers). It is valid until the next call to Next.
+// in the order asked for, with the rows' numbers and the columns'
+// positions in the input (Table.RowNumbers, Table.ColumnNumbers). It is valid until the next call to Next.
 func (r *TableReader) Table() *tabular.Table { return r.table }
 
 // RecordBatch returns the current batch as the input holds it, every

@@ -33,6 +33,11 @@ func readBatches(t *testing.T, text string, columns []string, opts ingest.ReadOp
 	var joined *tabular.Table
 	for tr.Next() {
 		b := tr.Table()
+		for i, c := range b.Columns {
+			if want := tr.Schema().FieldIndices(c.Name)[0] + 1; b.Position(c.Name) != want || b.ColumnNumbers[i] != want {
+				t.Fatalf("column %s at position %d, want %d", c.Name, b.Position(c.Name), want)
+			}
+		}
 		for i := range b.Rows {
 			if want := tr.Rows() - b.Rows + i + 1; b.RowNumber(i) != want {
 				t.Fatalf("batch row %d numbered %d, want %d", i, b.RowNumber(i), want)

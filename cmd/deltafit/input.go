@@ -101,16 +101,27 @@ func reportFormat(s string) (export.Format, error) {
 // checkOutput refuses an output path that names an input file (the data,
 // or predict's model), which writing would replace.
 func checkOutput(output, input string) error {
-	if output == "" || input == "-" {
+	return checkOutputPath("-o", output, input)
+}
+
+// checkOutputPath checks, before any work starts, an output path given
+// with flag: not an input of the command (writing would replace it), not a
+// directory, and in a directory that exists and can be written. "" and "-"
+// (stdout) pass. Messages name the path as the user gave it.
+func checkOutputPath(flag, output string, inputs ...string) error {
+	if output == "" || output == "-" {
 		return nil
 	}
 	out, err := os.Stat(output)
-	if err != nil {
-		return nil // a new file
+	if err == nil {
+		for _, input := range inputs {
+			if input == "" || input == "-" {
+				continue
+			}
+			if in, err := os.Stat(input); err == nil && os.SameFile(in, out) {
+				return usagef("%s %s is also an input of this command; writing it would replace the input", flag, output)
+			}
+		}
 	}
-	in, err := os.Stat(input)
-	if err == nil && os.SameFile(in, out) {
-		return usagef("-o %s is also an input of this command; writing it would replace the input", output)
-	}
-	return nil
+	return export.CheckWritable(output)
 }
