@@ -56,7 +56,7 @@ func (pw *PredictionWriter) Write(p *model.Predictions, keep []arrow.Array) erro
 	if len(p.Labels) != len(pw.labels) {
 		return fmt.Errorf("export: predictions of %d classes for a writer of %d", len(p.Labels), len(pw.labels))
 	}
-	cols, err := keepColumns(pw.keep, keep)
+	cols, err := keepColumns(pw.keep, keep, nil)
 	if err != nil {
 		return err
 	}
@@ -105,9 +105,10 @@ func NewPatternWriter(w io.Writer, format TableFormat, file string, units []stri
 
 // Write writes n patterns, row after row in patterns (one value per unit),
 // beside the rows' target cells (nil without a target column) and the
-// kept columns' arrays, one per kept field. rowNumber gives a row's
-// number in the input, for errors.
-func (pw *PatternWriter) Write(patterns []float64, n int, rowNumber func(int) int, target *tabular.Column, keep []arrow.Array) error {
+// kept columns' arrays, one per kept field: their rows in order, or rows
+// take[0], take[1], … when take is not nil. rowNumber gives a row's number
+// in the input, for errors.
+func (pw *PatternWriter) Write(patterns []float64, n int, rowNumber func(int) int, target *tabular.Column, keep []arrow.Array, take []int) error {
 	width := len(pw.units)
 	if len(patterns) != n*width {
 		return fmt.Errorf("export: %d values for %d patterns of %d units", len(patterns), n, width)
@@ -115,7 +116,7 @@ func (pw *PatternWriter) Write(patterns []float64, n int, rowNumber func(int) in
 	if (target != nil) != (pw.target != "") {
 		return fmt.Errorf("export: the target column is given to a writer that has none, or not given to one that has")
 	}
-	cols, err := keepColumns(pw.keep, keep)
+	cols, err := keepColumns(pw.keep, keep, take)
 	if err != nil {
 		return err
 	}

@@ -437,26 +437,41 @@ func KeepField(f arrow.Field) (arrow.Field, error) {
 	return arrow.Field{}, fmt.Errorf("export: column %s has Arrow type %s, which cannot be passed through", f.Name, f.Type)
 }
 
-// arrowColumn is an input column passed through (--keep).
+// arrowColumn is an input column passed through (--keep): row i is value
+// i of arr, or value take[i] when take is not nil.
 type arrowColumn struct {
-	f   arrow.Field // as KeepField returns it
-	arr arrow.Array
+	f    arrow.Field // as KeepField returns it
+	arr  arrow.Array
+	take []int
 }
 
 func (c arrowColumn) field() arrow.Field { return c.f }
 
 func (c arrowColumn) appendText(dst []byte, i int) ([]byte, bool) {
-	arr, k := c.arr, i
-	if d, ok := arr.(*array.Dictionary); ok {
-		if d.IsNull(i) {
-			return dst, true
-		}
-		arr, k = d.Dictionary(), d.GetValueIndex(i)
-	}
-	if arr.IsNull(k) {
+	arr, k := c.value(i)
+	if k < 0 {
 		return dst, true
 	}
 	return appendArrowValue(dst, arr, k), false
+}
+
+// value returns the array and index that hold row i's value, a
+// dictionary's values for a dictionary, or k < 0 for a missing cell.
+func (c arrowColumn) value(i int) (arr arrow.Array, k int) {
+	arr, k = c.arr, i
+	if c.take != nil {
+		k = c.take[i]
+	}
+	if d, ok := arr.(*array.Dictionary); ok {
+		if d.IsNull(k) {
+			return nil, -1
+		}
+		arr, k = d.Dictionary(), d.GetValueIndex(k)
+	}
+	if arr.IsNull(k) {
+		return nil, -1
+	}
+	return arr, k
 }
 
 // appendArrowValue appends value i of arr (not null) as text.
@@ -495,27 +510,19 @@ func appendArrowValue(dst []byte, arr arrow.Array, i int) []byte {
 }
 
 func (c arrowColumn) array(mem memory.Allocator, n int) arrow.Array {
-	d, ok := c.arr.(*array.Dictionary)
-	if !ok {
+	if _, dict := c.arr.(*array.Dictionary); !dict && c.take == nil && c.arr.Len() == n {
 		c.arr.Retain()
 		return c.arr
 	}
-	// The values of a dictionary, one by one.
-	values := d.Dictionary()
 	b := array.NewBuilder(mem, c.f.Type)
 	defer b.Release()
 	b.Reserve(n)
 	for i := range n {
-		if d.IsNull(i) {
+		if arr, k := c.value(i); k < 0 {
 			b.AppendNull()
-			continue
+		} else {
+			appendValueTo(b, arr, k)
 		}
-		k := d.GetValueIndex(i)
-		if values.IsNull(k) {
-			b.AppendNull()
-			continue
-		}
-		appendValueTo(b, values, k)
 	}
 	return b.NewArray()
 }
@@ -556,14 +563,15 @@ func appendValueTo(b array.Builder, arr arrow.Array, k int) {
 	}
 }
 
-// keepColumns pairs the kept fields with a batch's arrays.
-func keepColumns(fields []arrow.Field, arrays []arrow.Array) ([]column, error) {
+// keepColumns pairs the kept fields with a batch's arrays, whose rows are
+// take (nil: the arrays' own rows, in order).
+func keepColumns(fields []arrow.Field, arrays []arrow.Array, take []int) ([]column, error) {
 	if len(arrays) != len(fields) {
 		return nil, fmt.Errorf("export: %d kept columns given for %d fields", len(arrays), len(fields))
 	}
 	cols := make([]column, len(fields))
 	for i, f := range fields {
-		cols[i] = arrowColumn{f: f, arr: arrays[i]}
+		cols[i] = arrowColumn{f: f, arr: arrays[i], take: take}
 	}
 	return cols, nil
 }

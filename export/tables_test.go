@@ -402,7 +402,7 @@ func TestPatternWriterCSV(t *testing.T) {
 		t.Fatal(err)
 	}
 	target := &tabular.Column{Name: "y", Kind: tabular.Numeric, Numbers: []float64{1, 0}, Missing: []bool{false, true}}
-	if err := pw.Write([]float64{1, 0, 0, -0.25, 1, 1}, 2, func(i int) int { return i + 1 }, target, nil); err != nil {
+	if err := pw.Write([]float64{1, 0, 0, -0.25, 1, 1}, 2, func(i int) int { return i + 1 }, target, nil, nil); err != nil {
 		t.Fatal(err)
 	}
 	if err := pw.Close(); err != nil {
@@ -411,5 +411,48 @@ func TestPatternWriterCSV(t *testing.T) {
 	want := "x>1.5,\"c=a,b\",c:missing,y\n1,0,0,1\n-0.25,1,1,\n"
 	if buf.String() != want {
 		t.Fatalf("got\n%s\nwant\n%s", buf.String(), want)
+	}
+}
+
+// Kept columns follow take, the input rows the patterns are of, in text
+// and in Arrow (where an int64 column stays int64).
+func TestPatternWriterTake(t *testing.T) {
+	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
+	defer mem.AssertSize(t, 0)
+	fields, arrays := keptArrays(t, mem)
+	defer func() {
+		for _, a := range arrays {
+			a.Release()
+		}
+	}()
+	take := []int{3, 1}
+	write := func(format TableFormat) []byte {
+		var buf bytes.Buffer
+		pw, err := NewPatternWriter(&buf, format, "in.csv", []string{"u"}, "", fields)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := pw.Write([]float64{0.5, 1}, 2, func(i int) int { return take[i] + 1 }, nil, arrays, take); err != nil {
+			t.Fatal(err)
+		}
+		if err := pw.Close(); err != nil {
+			t.Fatal(err)
+		}
+		return buf.Bytes()
+	}
+	if got, want := string(write(TableCSV)), "id,site,weight,u\n4,north,0.001,0.5\n-1,\"a \"\"quoted\"\", site\",2.5,1\n"; got != want {
+		t.Fatalf("got\n%s\nwant\n%s", got, want)
+	}
+	rdr, err := ipc.NewReader(bytes.NewReader(write(TableArrow)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rdr.Release()
+	if !rdr.Next() {
+		t.Fatal(rdr.Err())
+	}
+	ids, ok := rdr.RecordBatch().Column(0).(*array.Int64)
+	if !ok || ids.Len() != 2 || ids.Value(0) != 4 || ids.Value(1) != -1 {
+		t.Fatalf("ids %v", rdr.RecordBatch().Column(0))
 	}
 }

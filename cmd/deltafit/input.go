@@ -9,6 +9,9 @@ import (
 	"strings"
 	"unicode/utf8"
 
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/spf13/pflag"
 
 	"deltafit/export"
@@ -68,25 +71,97 @@ func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
 // readTable reads a whole table from a path or "-" (stdin) and returns it
 // with the sha256 of the bytes read. The reader's warnings go to stderr.
 func readTable(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions) (*tabular.Table, string, error) {
+	t, sha, _, err := readTableKeeping(path, stdin, stderr, opts, nil)
+	return t, sha, err
+}
+
+// keptColumns are input columns held as the input has them, to pass
+// through (--keep) beside a table read whole.
+type keptColumns struct {
+	fields []arrow.Field   // output fields (export.KeepField)
+	arrays []arrow.Array   // each column's cells, every row of the input
+	chunks [][]arrow.Array // the batches' arrays while reading
+	index  []int           // the columns' positions in the input
+}
+
+func (k *keptColumns) release() {
+	for _, a := range k.arrays {
+		a.Release()
+	}
+	for _, chunks := range k.chunks {
+		for _, a := range chunks {
+			a.Release()
+		}
+	}
+}
+
+// keepingReader passes record batches on to Collect, keeping the arrays
+// of the kept columns.
+type keepingReader struct {
+	array.RecordReader
+	kept *keptColumns
+}
+
+func (r keepingReader) Next() bool {
+	if !r.RecordReader.Next() {
+		return false
+	}
+	rec := r.RecordReader.RecordBatch()
+	for i, c := range r.kept.index {
+		a := rec.Column(c)
+		a.Retain()
+		r.kept.chunks[i] = append(r.kept.chunks[i], a)
+	}
+	return true
+}
+
+// readTableKeeping reads a whole table as readTable does, keeping the
+// named columns as the input holds them; the caller releases them.
+func readTableKeeping(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions, keep []string) (*tabular.Table, string, *keptColumns, error) {
 	opts.Warn = func(w *tabular.DataError) { fmt.Fprintf(stderr, "deltafit: warning: %v\n", w) }
 	var r io.Reader = stdin
 	if path != "-" {
 		f, err := os.Open(path)
 		if err != nil {
-			return nil, "", fmt.Errorf("cannot open the data: %w", err)
+			return nil, "", nil, fmt.Errorf("cannot open the data: %w", err)
 		}
 		defer f.Close()
 		r = f
 	}
 	h := sha256.New()
-	t, err := ingest.ReadTable(path, io.TeeReader(r, h), opts)
+	rr, err := ingest.NewRecordReader(path, io.TeeReader(r, h), opts)
 	if err != nil {
-		return nil, "", err
+		return nil, "", nil, err
 	}
+	defer rr.Release()
+	kept := &keptColumns{chunks: make([][]arrow.Array, len(keep))}
+	if kept.fields, kept.index, err = keepFields(path, rr.Schema(), keep); err != nil {
+		return nil, "", nil, err
+	}
+	t, err := ingest.Collect(path, keepingReader{RecordReader: rr, kept: kept}, opts)
+	if err != nil {
+		kept.release()
+		return nil, "", nil, err
+	}
+	for _, chunks := range kept.chunks {
+		joined, err := array.Concatenate(chunks, memory.DefaultAllocator)
+		if err != nil {
+			kept.release()
+			return nil, "", nil, fmt.Errorf("%s: --keep: %w", tabular.DisplayName(path), err)
+		}
+		kept.arrays = append(kept.arrays, joined)
+	}
+	for _, chunks := range kept.chunks {
+		for _, a := range chunks {
+			a.Release()
+		}
+	}
+	kept.chunks = nil
 	if _, err := io.Copy(h, r); err != nil {
-		return nil, "", fmt.Errorf("%s: %w", path, err)
+		kept.release()
+		return nil, "", nil, fmt.Errorf("%s: %w", path, err)
 	}
-	return t, hex.EncodeToString(h.Sum(nil)), nil
+	return t, hex.EncodeToString(h.Sum(nil)), kept, nil
 }
 
 // reportFormat parses --format, as a usage error when it is not a format.

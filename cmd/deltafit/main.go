@@ -95,6 +95,7 @@ model file that predict and evaluate use on new rows.
 		newFitCmd(),
 		newEvaluateCmd(),
 		newPredictCmd(),
+		newEncodeCmd(),
 		newExportCmd(),
 		newDemoCmd(),
 		newCheckCmd(),

@@ -106,7 +106,7 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 	err = opts.out.write(stdout, func(w io.Writer, flush func() error) error {
 		pw, err := export.NewPredictionWriter(w, format, path, model.Labels, keepFields)
 		if err != nil {
-			return usageError{err}
+			return usagef("--keep: %v", err)
 		}
 		for in.Next() {
 			p, batchStats, err := model.PredictTable(in.Table())

@@ -86,17 +86,22 @@ func (s *dataStream) sha256() (string, error) {
 // keepFields finds the --keep columns in the input and returns their
 // output fields and positions.
 func (s *dataStream) keepFields(keep []string) ([]arrow.Field, []int, error) {
-	schema := s.Schema()
+	return keepFields(s.path, s.Schema(), keep)
+}
+
+// keepFields finds the --keep columns in schema, the input's, and returns
+// their output fields and positions.
+func keepFields(path string, schema *arrow.Schema, keep []string) ([]arrow.Field, []int, error) {
 	fields := make([]arrow.Field, len(keep))
 	index := make([]int, len(keep))
 	for i, name := range keep {
 		found := schema.FieldIndices(name)
 		if len(found) == 0 {
-			return nil, nil, &tabular.DataError{File: s.path, Name: name, Err: fmt.Errorf("--keep names this column but the input does not have it; the columns are %s", columnNames(schema, 20))}
+			return nil, nil, &tabular.DataError{File: path, Name: name, Err: fmt.Errorf("--keep names this column but the input does not have it; the columns are %s", columnNames(schema, 20))}
 		}
 		f, err := export.KeepField(schema.Field(found[0]))
 		if err != nil {
-			return nil, nil, &tabular.DataError{File: s.path, Column: found[0] + 1, Name: name, Err: err}
+			return nil, nil, &tabular.DataError{File: path, Column: found[0] + 1, Name: name, Err: err}
 		}
 		fields[i], index[i] = f, found[0]
 	}

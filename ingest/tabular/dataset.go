@@ -33,13 +33,8 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	if col == nil {
 		return nil, &DataError{File: t.Name, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s%s", columnList(t), delimiterHint(t))}
 	}
-	for _, name := range ignore {
-		if name == target {
-			return nil, &DataError{File: t.Name, Name: name, Err: errors.New("the target column cannot also be ignored")}
-		}
-		if t.Column(name) == nil {
-			return nil, &DataError{File: t.Name, Name: name, Err: fmt.Errorf("there is no column of that name to ignore; the columns are %s", columnList(t))}
-		}
+	if err := checkIgnore(t, target, ignore); err != nil {
+		return nil, err
 	}
 	labels, classes, err := targetClasses(t, col)
 	if err != nil {
@@ -54,17 +49,48 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", labels[0])}
 	}
 	d := &Dataset{Table: t, Target: target, Labels: labels, Classes: classes}
+	if d.Features, err = featureColumns(t, target, ignore); err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// Features returns the columns of t other than the target (none for "")
+// and the ignored ones, in table order, as NewDataset picks them. Ignoring
+// a column t does not have, or the target, is an error, and so is a
+// feature column whose every cell is missing.
+func Features(t *Table, target string, ignore []string) ([]*Column, error) {
+	if err := checkIgnore(t, target, ignore); err != nil {
+		return nil, err
+	}
+	return featureColumns(t, target, ignore)
+}
+
+func checkIgnore(t *Table, target string, ignore []string) error {
+	for _, name := range ignore {
+		if name == target {
+			return &DataError{File: t.Name, Name: name, Err: errors.New("the target column cannot also be ignored")}
+		}
+		if t.Column(name) == nil {
+			return &DataError{File: t.Name, Name: name, Err: fmt.Errorf("there is no column of that name to ignore; the columns are %s", columnList(t))}
+		}
+	}
+	return nil
+}
+
+func featureColumns(t *Table, target string, ignore []string) ([]*Column, error) {
+	var features []*Column
 	for _, c := range t.Columns {
-		if c == col || slices.Contains(ignore, c.Name) {
+		if c.Name == target || slices.Contains(ignore, c.Name) {
 			continue
 		}
 		if c.MissingCount() == t.Rows {
 			return nil, &DataError{File: t.Name, Column: t.Position(c.Name), Name: c.Name,
 				Err: errors.New("every cell of the column is missing; fill it in or ignore the column")}
 		}
-		d.Features = append(d.Features, c)
+		features = append(features, c)
 	}
-	return d, nil
+	return features, nil
 }
 
 // MissingTarget reports whether row i of t has no value in the target
