@@ -5,8 +5,8 @@ import (
 	"encoding/csv"
 	"fmt"
 	"math"
-	"strconv"
 	"os"
+	"strconv"
 	"strings"
 
 	"github.com/apache/arrow-go/v18/arrow"
