@@ -111,7 +111,7 @@ model file that predict and evaluate use on new rows.
 		newSelfcheckCmd(),
 		newVersionCmd(),
 	)
-	root.AddCommand(newCompletionCmd())
+	root.AddCommand(newCompletionCmd(), newCommandsCmd())
 	for _, c := range root.Commands() {
 		c.Args = usageArgs(c.Args)
 	}
