@@ -101,7 +101,16 @@ func runCheck(_ context.Context, opts checkOptions, path string, stdin io.Reader
 		// thermometer units.
 		learner.Plan.Numeric = encode.AutoCandidates(learner.Plan.Numeric)[1]
 	}
-	report, err := separate.Check(d, separate.CheckOptions{Space: space, Plan: learner.Plan, Pairs: opts.pairs, Seed: opts.learn.seed})
+	splits := newProgress(stderr, -1, "splits", false)
+	progress := func(done, total int) {
+		splits.bar.ChangeMax(total)
+		splits.set(int64(done))
+	}
+	if splits == nil {
+		progress = nil
+	}
+	report, err := separate.Check(d, separate.CheckOptions{Space: space, Plan: learner.Plan, Pairs: opts.pairs, Seed: opts.learn.seed, Progress: progress})
+	splits.finish()
 	if err != nil {
 		return err
 	}

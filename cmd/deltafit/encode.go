@@ -292,7 +292,7 @@ func encodeWithModel(opts encodeOptions, format export.TableFormat, path string,
 		}
 		columns = append(columns, target)
 	}
-	in, err := openStream(path, stdin, stderr, readOpts, columns, false)
+	in, err := openStream(path, stdin, stderr, progressTo(stdout, stderr, opts.out.toFile()), readOpts, columns, false)
 	if err != nil {
 		return err
 	}
@@ -350,6 +350,7 @@ func encodeWithModel(opts encodeOptions, format export.TableFormat, path string,
 				return err
 			}
 		}
+		in.count.progress.finish()
 		if err := in.Err(); err != nil {
 			return err
 		}

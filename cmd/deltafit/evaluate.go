@@ -55,7 +55,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	for _, f := range model.Plan.Features {
 		columns = append(columns, f.Column)
 	}
-	in, err := openStream(path, stdin, stderr, readOpts, columns, true)
+	in, err := openStream(path, stdin, stderr, stderr, readOpts, columns, true)
 	if err != nil {
 		return err
 	}
@@ -87,6 +87,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 			return err
 		}
 	}
+	in.count.progress.finish()
 	if err := in.Err(); err != nil {
 		return err
 	}

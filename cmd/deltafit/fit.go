@@ -160,7 +160,13 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if err != nil {
 		return err
 	}
-	study, err := evaluate.RunStudy(ctx, d, learner, evaluate.StudyOptions{Folds: opts.folds, Repeats: opts.repeats, Seed: opts.learn.seed})
+	studyOpts := evaluate.StudyOptions{Folds: opts.folds, Repeats: opts.repeats, Seed: opts.learn.seed}
+	progress := newFitProgress(stderr)
+	if progress != nil {
+		learner.Fit.Recorder, studyOpts.Progress = progress.recorder(learner.Fit.Recorder), progress.fold
+	}
+	study, err := evaluate.RunStudy(ctx, d, learner, studyOpts)
+	progress.finish()
 	if err != nil {
 		return divergenceHint(err, opts.learn)
 	}

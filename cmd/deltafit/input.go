@@ -118,18 +118,25 @@ func (r keepingReader) Next() bool {
 // readTableKeeping reads a whole table as readTable does, keeping the
 // named columns as the input holds them; the caller releases them.
 func readTableKeeping(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions, keep []string) (*tabular.Table, string, *keptColumns, error) {
-	opts.Warn = func(w *tabular.DataError) { fmt.Fprintf(stderr, "deltafit: warning: %v\n", w) }
+	var count *countingReader
+	opts.Warn = func(w *tabular.DataError) {
+		count.progress.finish() // a warning comes at the end of the input
+		fmt.Fprintf(stderr, "deltafit: warning: %v\n", w)
+	}
 	var r io.Reader = stdin
+	var file *os.File
 	if path != "-" {
 		f, err := os.Open(path)
 		if err != nil {
 			return nil, "", nil, fmt.Errorf("cannot open the data: %w", err)
 		}
 		defer f.Close()
-		r = f
+		r, file = f, f
 	}
+	count = &countingReader{r: r, progress: newReadProgress(stderr, file)}
+	defer count.progress.finish()
 	h := sha256.New()
-	rr, err := ingest.NewRecordReader(path, io.TeeReader(r, h), opts)
+	rr, err := ingest.NewRecordReader(path, io.TeeReader(count, h), opts)
 	if err != nil {
 		return nil, "", nil, err
 	}
@@ -157,7 +164,7 @@ func readTableKeeping(path string, stdin io.Reader, stderr io.Writer, opts inges
 		}
 	}
 	kept.chunks = nil
-	if _, err := io.Copy(h, r); err != nil {
+	if _, err := io.Copy(h, count); err != nil {
 		kept.release()
 		return nil, "", nil, fmt.Errorf("%s: %w", path, err)
 	}

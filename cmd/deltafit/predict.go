@@ -93,7 +93,7 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 	for _, f := range model.Plan.Features {
 		columns = append(columns, f.Column)
 	}
-	in, err := openStream(path, stdin, stderr, readOpts, columns, false)
+	in, err := openStream(path, stdin, stderr, progressTo(stdout, stderr, opts.out.toFile()), readOpts, columns, false)
 	if err != nil {
 		return err
 	}
@@ -129,6 +129,7 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 				return err
 			}
 		}
+		in.count.progress.finish()
 		if err := in.Err(); err != nil {
 			return err
 		}

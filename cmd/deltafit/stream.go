@@ -35,10 +35,14 @@ type dataStream struct {
 
 // openStream opens DATA (a path, or "-" for stdin) and reads the named
 // columns with the kinds in opts. With hashed, the bytes read are hashed
-// (sha256 returns the sum). Warnings go to stderr.
-func openStream(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions, columns []string, hashed bool) (*dataStream, error) {
-	opts.Warn = func(w *tabular.DataError) { fmt.Fprintf(stderr, "deltafit: warning: %v\n", w) }
+// (sha256 returns the sum). Warnings go to stderr, the progress of reading
+// a large input to progressOut (see progressTo).
+func openStream(path string, stdin io.Reader, stderr, progressOut io.Writer, opts ingest.ReadOptions, columns []string, hashed bool) (*dataStream, error) {
 	s := &dataStream{path: path, in: stdin}
+	opts.Warn = func(w *tabular.DataError) {
+		s.count.progress.finish() // a warning comes at the end of the input
+		fmt.Fprintf(stderr, "deltafit: warning: %v\n", w)
+	}
 	if path != "-" {
 		f, err := os.Open(path)
 		if err != nil {
@@ -46,7 +50,7 @@ func openStream(path string, stdin io.Reader, stderr io.Writer, opts ingest.Read
 		}
 		s.file, s.in = f, f
 	}
-	s.count = &countingReader{r: s.in}
+	s.count = &countingReader{r: s.in, progress: newReadProgress(progressOut, s.file)}
 	var r io.Reader = s.count
 	if hashed {
 		s.hash = sha256.New()
@@ -66,6 +70,7 @@ func openStream(path string, stdin io.Reader, stderr io.Writer, opts ingest.Read
 }
 
 func (s *dataStream) close() {
+	s.count.progress.finish()
 	if s.rr != nil {
 		s.rr.Release()
 	}
@@ -131,16 +136,29 @@ func columnNames(schema *arrow.Schema, most int) string {
 	return strings.Join(names, ", ")
 }
 
-// countingReader counts the bytes read through it, for progress.
+// countingReader counts the bytes read through it and shows them as
+// progress.
 type countingReader struct {
-	r io.Reader
-	n int64
+	r        io.Reader
+	n        int64
+	progress *readProgress
 }
 
 func (c *countingReader) Read(p []byte) (int, error) {
 	n, err := c.r.Read(p)
 	c.n += int64(n)
+	c.progress.read(c.n)
 	return n, err
+}
+
+// progressTo is where a command that writes rows as it reads shows its
+// progress: stderr, unless the rows go to the same terminal, where a bar
+// would be drawn over them.
+func progressTo(stdout, stderr io.Writer, toFile bool) io.Writer {
+	if !toFile && terminal(stdout) {
+		return io.Discard
+	}
+	return stderr
 }
 
 // tableOutput are the output flags of the commands that write tables of

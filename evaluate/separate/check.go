@@ -49,6 +49,9 @@ type CheckOptions struct {
 	Groups int
 	// MaxInputs is Options.MaxInputs (default MaxInputs).
 	MaxInputs int
+	// Progress, if not nil, is told after each split is decided how many
+	// of how many are.
+	Progress func(done, total int)
 }
 
 // Report is what Check finds.
@@ -130,7 +133,10 @@ func Check(d *tabular.Dataset, opts CheckOptions) (*Report, error) {
 			}
 		}
 	}
-	for _, s := range splits {
+	for i, s := range splits {
+		if i > 0 && opts.Progress != nil {
+			opts.Progress(i, len(splits))
+		}
 		res, err := Separate(p, s[0].rows, s[1].rows, Options{Seed: opts.Seed, MaxInputs: opts.MaxInputs})
 		if err != nil {
 			return nil, fmt.Errorf("separate: %s against %s: %w", s[0].name, s[1].name, err)
@@ -139,6 +145,9 @@ func Check(d *tabular.Dataset, opts CheckOptions) (*Report, error) {
 			res.Reason += "; " + fewerInputs[opts.Space]
 		}
 		r.Splits = append(r.Splits, newSplit(s[0].name, s[1].name, len(s[0].rows)+len(s[1].rows), res))
+	}
+	if opts.Progress != nil {
+		opts.Progress(len(splits), len(splits))
 	}
 	return r, nil
 }
