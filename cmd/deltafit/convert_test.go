@@ -6,8 +6,11 @@ import (
 	"fmt"
 	"math"
 	"os"
+	"path/filepath"
+	"reflect"
 	"strconv"
 	"strings"
+	"testing"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -21,17 +24,27 @@ import (
 	"deltafit/ingest/tabular"
 )
 
-// convert FORMAT IN OUT writes the CSV file IN as an Arrow IPC stream
-// (arrows), an Arrow IPC file (arrow) or Parquet (parquet) in batches (row
-// groups) of 64 rows, through arrow-go's own writers: an int64 column id
-// (1, 2, …) first, then IN's columns, numeric ones as float64, boolean as
-// bool, categorical as utf8, missing cells null.
+// convert FORMAT IN OUT writes the CSV file IN as FORMAT (see
+// convertCSV).
 func convert(ts *testscript.TestScript, neg bool, args []string) {
 	if neg || len(args) != 3 {
 		ts.Fatalf("usage: convert arrows|arrow|parquet IN OUT")
 	}
-	t, err := ingest.ReadTable(args[1], strings.NewReader(ts.ReadFile(args[1])), ingest.ReadOptions{})
+	b, err := convertCSV(args[0], args[1], ts.ReadFile(args[1]))
 	ts.Check(err)
+	ts.Check(os.WriteFile(ts.MkAbs(args[2]), b, 0o666))
+}
+
+// convertCSV writes the CSV text as an Arrow IPC stream (arrows), an Arrow
+// IPC file (arrow) or Parquet (parquet) in batches (row groups) of 64
+// rows, through arrow-go's own writers: an int64 column id (1, 2, …) first,
+// then the CSV's columns, numeric ones as float64, boolean as bool,
+// categorical as utf8, missing cells null.
+func convertCSV(format, name, text string) ([]byte, error) {
+	t, err := ingest.ReadTable(name, strings.NewReader(text), ingest.ReadOptions{})
+	if err != nil {
+		return nil, err
+	}
 	mem := memory.NewGoAllocator()
 	fields := []arrow.Field{{Name: "id", Type: arrow.PrimitiveTypes.Int64}}
 	for _, c := range t.Columns {
@@ -46,6 +59,11 @@ func convert(ts *testscript.TestScript, neg bool, args []string) {
 	}
 	schema := arrow.NewSchema(fields, nil)
 	var records []arrow.RecordBatch
+	defer func() {
+		for _, r := range records {
+			r.Release()
+		}
+	}()
 	for lo := 0; lo < t.Rows; lo += 64 {
 		hi := min(lo+64, t.Rows)
 		b := array.NewRecordBuilder(mem, schema)
@@ -69,34 +87,78 @@ func convert(ts *testscript.TestScript, neg bool, args []string) {
 		b.Release()
 	}
 	var buf bytes.Buffer
-	switch args[0] {
+	type recordWriter interface {
+		Write(arrow.RecordBatch) error
+		Close() error
+	}
+	var w recordWriter
+	switch format {
 	case "arrows":
-		w := ipc.NewWriter(&buf, ipc.WithSchema(schema))
-		for _, r := range records {
-			ts.Check(w.Write(r))
-		}
-		ts.Check(w.Close())
+		w = ipc.NewWriter(&buf, ipc.WithSchema(schema))
 	case "arrow":
-		w, err := ipc.NewFileWriter(&buf, ipc.WithSchema(schema))
-		ts.Check(err)
-		for _, r := range records {
-			ts.Check(w.Write(r))
+		if w, err = ipc.NewFileWriter(&buf, ipc.WithSchema(schema)); err != nil {
+			return nil, err
 		}
-		ts.Check(w.Close())
 	case "parquet":
-		w, err := pqarrow.NewFileWriter(schema, &buf, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps())
-		ts.Check(err)
-		for _, r := range records {
-			ts.Check(w.Write(r))
+		if w, err = pqarrow.NewFileWriter(schema, &buf, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps()); err != nil {
+			return nil, err
 		}
-		ts.Check(w.Close())
 	default:
-		ts.Fatalf("convert: unknown format %q", args[0])
+		return nil, fmt.Errorf("convert: unknown format %q", format)
 	}
 	for _, r := range records {
-		r.Release()
+		if err := w.Write(r); err != nil {
+			return nil, err
+		}
 	}
-	ts.Check(os.WriteFile(ts.MkAbs(args[2]), buf.Bytes(), 0o666))
+	if err := w.Close(); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
+}
+
+// testdata/iris.parquet and testdata/iris.arrows are iris.csv with an id
+// column, as convertCSV writes it (go test ./cmd/deltafit -run
+// TestIrisCopies -update rewrites them): they read back as iris.csv's
+// table beside ids 1 to 150.
+func TestIrisCopies(t *testing.T) {
+	dir := filepath.Join("..", "..", "testdata")
+	text, err := os.ReadFile(filepath.Join(dir, "iris.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := ingest.ReadTable("iris.csv", bytes.NewReader(text), ingest.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, format := range []string{"parquet", "arrows"} {
+		path := filepath.Join(dir, "iris."+format)
+		if *update {
+			b, err := convertCSV(format, "iris.csv", string(text))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := os.WriteFile(path, b, 0o666); err != nil {
+				t.Fatal(err)
+			}
+		}
+		b, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, err := ingest.ReadTable(path, bytes.NewReader(b), ingest.ReadOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		id := got.Columns[0]
+		if id.Name != "id" || got.Rows != 150 || id.Numbers[0] != 1 || id.Numbers[149] != 150 {
+			t.Fatalf("%s: no id column 1 to 150", path)
+		}
+		got.Columns = got.Columns[1:]
+		if !reflect.DeepEqual(got.Columns, want.Columns) {
+			t.Fatalf("%s does not hold iris.csv's columns", path)
+		}
+	}
 }
 
 // readtable FILE prints the schema of an Arrow IPC or Parquet file (any
