@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"runtime"
+	"sync"
 
 	"deltafit/fit"
 	"deltafit/fit/model"
@@ -29,6 +30,10 @@ type StudyOptions struct {
 	Folds   int    // stratified folds; 0 means no cross-validation
 	Repeats int    // repeats of the cross-validation, each with its own folds; 0 means 1
 	Seed    uint64 // seeds the folds of every repeat (see StratifiedFoldsRepeat)
+	// Progress, if not nil, is told after each fold of each method's
+	// cross-validation how many of how many folds are done. It is called
+	// from the goroutines that run the folds, one call at a time.
+	Progress func(done, total int)
 }
 
 // RunStudy fits l on every row of d and, when opts.Folds > 0,
@@ -64,6 +69,7 @@ func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, opts StudyOpti
 		return s, nil
 	}
 	s.SmallClasses = SmallClassesOf(d, opts.Folds)
+	counter := &foldCounter{total: 3 * len(splits) * opts.Folds, progress: opts.Progress}
 	for _, run := range []struct {
 		dst *(*CVResult)
 		m   Method
@@ -73,8 +79,9 @@ func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, opts StudyOpti
 		{&s.Hebbian, LearnerMethod("hebbian", HebbianBaseline(l), d)},
 	} {
 		results := make([]*CVResult, len(splits))
+		m := counter.count(run.m)
 		for r, split := range splits {
-			if results[r], err = CrossValidateContext(ctx, d, split, run.m, l.Fit.Workers); err != nil {
+			if results[r], err = CrossValidateContext(ctx, d, split, m, l.Fit.Workers); err != nil {
 				return nil, inFile(err, d.Table.Name)
 			}
 		}
@@ -83,6 +90,31 @@ func RunStudy(ctx context.Context, d *tabular.Dataset, l Learner, opts StudyOpti
 		}
 	}
 	return s, nil
+}
+
+// foldCounter counts the folds of a study's cross-validations for
+// StudyOptions.Progress.
+type foldCounter struct {
+	mu          sync.Mutex
+	done, total int
+	progress    func(done, total int)
+}
+
+// count returns m, telling the counter's progress after each fold.
+func (c *foldCounter) count(m Method) Method {
+	if c.progress == nil {
+		return m
+	}
+	predict := m.Predict
+	m.Predict = func(ctx context.Context, f Fold) ([]int, error) {
+		classes, err := predict(ctx, f)
+		c.mu.Lock()
+		defer c.mu.Unlock()
+		c.done++
+		c.progress(c.done, c.total)
+		return classes, err
+	}
+	return m
 }
 
 // HebbianBaseline is the contrast baseline of a learner: the same encoding

@@ -6,7 +6,6 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
-	"strconv"
 	"strings"
 	"testing"
 
@@ -96,7 +95,7 @@ func TestReadModelRejects(t *testing.T) {
 }
 
 // Predictions written as CSV read back through ingest with the same labels
-// and scores (to the six significant digits written).
+// and exactly the same scores (written in their shortest exact form).
 func TestPredictionsRoundTrip(t *testing.T) {
 	m, d := irisModel(t)
 	p, stats, err := m.PredictTable(d.Table)
@@ -126,8 +125,7 @@ func TestPredictionsRoundTrip(t *testing.T) {
 		}
 		for j, l := range d.Labels {
 			got := back.Column("score_" + l).Numbers[i]
-			want, _ := strconv.ParseFloat(strconv.FormatFloat(p.ScoresOf(i)[j], 'g', 6, 64), 64)
-			if got != want {
+			if want := p.ScoresOf(i)[j]; got != want {
 				t.Fatalf("row %d score %s: %v, want %v", i+1, l, got, want)
 			}
 		}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"unicode"
@@ -33,7 +34,52 @@ func ReadTable(name string, r io.Reader, opts ReadOptions) (*tabular.Table, erro
 // A column that is mostly numbers with a stray word is an error naming the
 // cell, not a silent switch to categorical.
 func Collect(name string, rr array.RecordReader, opts ReadOptions) (*tabular.Table, error) {
-	schema := rr.Schema()
+	builders, err := newColumnBuilders(name, rr.Schema(), opts)
+	if err != nil {
+		return nil, err
+	}
+	rows := 0
+	for rr.Next() {
+		rec := rr.RecordBatch()
+		for i, b := range builders {
+			if err := b.append(rec.Column(i), rows); err != nil {
+				err.File = name
+				return nil, err
+			}
+		}
+		rows += int(rec.NumRows())
+	}
+	if err := rr.Err(); err != nil {
+		de := readError(name, rows, err)
+		if de.Column > 0 && de.Column <= len(builders) && de.Name == "" {
+			de.Name = builders[de.Column-1].name
+		}
+		return nil, de
+	}
+	if rows == 0 {
+		return nil, &tabular.DataError{File: name, Err: ErrNoRows}
+	}
+	t := &tabular.Table{Name: name, Rows: rows, Columns: make([]*tabular.Column, len(builders))}
+	for i, b := range builders {
+		col, err := b.finish(b.kindOf(opts))
+		if err != nil {
+			err.File = name
+			return nil, err
+		}
+		col.LabelText = b.labelText(opts)
+		if w := b.underflowWarning(); w != nil && opts.Warn != nil {
+			w.File = name
+			opts.Warn(w)
+		}
+		t.Columns[i] = col
+	}
+	return t, nil
+}
+
+// newColumnBuilders checks the column names of schema (present, valid
+// UTF-8, visible, unique) and that every column opts.Kinds names exists,
+// and returns one builder per column.
+func newColumnBuilders(name string, schema *arrow.Schema, opts ReadOptions) ([]*columnBuilder, error) {
 	if schema.NumFields() > MaxColumns {
 		return nil, &tabular.DataError{File: name, Err: fmt.Errorf("the table has %d columns, over the cap of %d (MaxColumns)", schema.NumFields(), MaxColumns)}
 	}
@@ -64,52 +110,7 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*tabular.Tab
 			return nil, &tabular.DataError{File: name, Name: col, Err: fmt.Errorf("a kind is given for this column but the input has %w", ErrNoColumn)}
 		}
 	}
-	rows := 0
-	for rr.Next() {
-		rec := rr.RecordBatch()
-		for i, b := range builders {
-			if err := b.append(rec.Column(i), rows); err != nil {
-				err.File = name
-				return nil, err
-			}
-		}
-		rows += int(rec.NumRows())
-	}
-	if err := rr.Err(); err != nil {
-		de := readError(name, rows, err)
-		if de.Column > 0 && de.Column <= len(builders) && de.Name == "" {
-			de.Name = builders[de.Column-1].name
-		}
-		return nil, de
-	}
-	if rows == 0 {
-		return nil, &tabular.DataError{File: name, Err: ErrNoRows}
-	}
-	t := &tabular.Table{Name: name, Rows: rows, Columns: make([]*tabular.Column, len(builders))}
-	for i, b := range builders {
-		reason := "declared"
-		kind, declared := opts.Kinds[b.name]
-		labelText := !declared && opts.Target != "" && b.name == opts.Target
-		switch {
-		case labelText:
-			kind, declared = tabular.Categorical, true
-		case !declared:
-			reason = "the model reads as"
-			kind, declared = opts.Expected[b.name]
-		}
-		col, err := b.finish(kind, declared, reason)
-		if err != nil {
-			err.File = name
-			return nil, err
-		}
-		col.LabelText = labelText
-		if w := b.underflowWarning(); w != nil && opts.Warn != nil {
-			w.File = name
-			opts.Warn(w)
-		}
-		t.Columns[i] = col
-	}
-	return t, nil
+	return builders, nil
 }
 
 // readError places a reader's error at the row that follows the last one read.
@@ -149,10 +150,40 @@ type columnBuilder struct {
 	text    []string
 	numbers []float64
 	missing []bool
-	any     bool // a cell has been appended, fixing the storage type
+	parsed  []float64 // numbers read from text, reused from batch to batch
+	any     bool      // a cell has been appended, fixing the storage type
+	base    int       // rows before the cells held, which reset drops
 
-	underflows     int // nonzero numbers read as 0
-	firstUnderflow int // 1-based row of the first
+	underflows     int    // nonzero numbers read as 0
+	firstUnderflow int    // 1-based row of the first
+	underflowCell  string // its text
+}
+
+// reset drops the cells held, keeping the storage type and the count of
+// underflows, so the builder goes on with the next rows of the column.
+func (b *columnBuilder) reset() {
+	b.base += len(b.missing)
+	b.text, b.numbers, b.missing = b.text[:0], b.numbers[:0], b.missing[:0]
+}
+
+// kindOf returns the kind opts gives the column, whether it gives one and
+// why, for messages ("declared").
+func (b *columnBuilder) kindOf(opts ReadOptions) (kind tabular.Kind, given bool, reason string) {
+	if kind, given = opts.Kinds[b.name]; given {
+		return kind, true, "declared"
+	}
+	if b.labelText(opts) {
+		return tabular.Categorical, true, "read as class labels"
+	}
+	kind, given = opts.Expected[b.name]
+	return kind, given, "the model reads as"
+}
+
+// labelText reports whether the column is the target, whose cells are kept
+// as written unless its kind is declared (ReadOptions.Target).
+func (b *columnBuilder) labelText(opts ReadOptions) bool {
+	_, declared := opts.Kinds[b.name]
+	return !declared && opts.Target != "" && b.name == opts.Target
 }
 
 func (b *columnBuilder) fail(row int, err error) *tabular.DataError {
@@ -377,7 +408,7 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		col.Text = b.text
 		return col, nil
 	case tabular.Boolean:
-		col.Numbers = make([]float64, len(b.text))
+		col.Numbers = b.parsedNumbers()
 		for i, v := range b.text {
 			if col.IsMissing(i) {
 				continue
@@ -387,7 +418,7 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 				t, ok = parseBit(v)
 			}
 			if !ok {
-				return nil, b.fail(i+1, fmt.Errorf("%s is not true, false, 1 or 0, in a column %s boolean", quoteCell(v), reason))
+				return nil, b.fail(b.base+i+1, fmt.Errorf("%s is not true, false, 1 or 0, in a column %s boolean", quoteCell(v), reason))
 			}
 			if t {
 				col.Numbers[i] = 1
@@ -395,8 +426,7 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		}
 		return col, nil
 	}
-	col.Numbers = make([]float64, len(b.text))
-	numbers := b.numberCount()
+	col.Numbers = b.parsedNumbers()
 	for i, v := range b.text {
 		if col.IsMissing(i) {
 			continue
@@ -404,22 +434,30 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		x, err := parseNumber(v)
 		switch {
 		case errors.Is(err, errNotNumber) && declared:
-			return nil, b.fail(i+1, fmt.Errorf("%w in a column %s numeric; fix the cell, or leave it empty or write NA if it is missing", err, reason))
+			return nil, b.fail(b.base+i+1, fmt.Errorf("%w in a column %s numeric; fix the cell, or leave it empty or write NA if it is missing", err, reason))
 		case errors.Is(err, errNotNumber):
-			return nil, b.fail(i+1, fmt.Errorf("%w, though %d of the column's %d values are; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical",
-				err, numbers, len(b.text)-countTrue(b.missing)))
+			return nil, b.fail(b.base+i+1, fmt.Errorf("%w, though %d of the column's %d values are; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical",
+				err, b.numberCount(), len(b.text)-countTrue(b.missing)))
 		case err != nil:
-			return nil, b.fail(i+1, err)
+			return nil, b.fail(b.base+i+1, err)
 		}
 		if x == 0 && underflows(v) {
 			if b.underflows == 0 {
-				b.firstUnderflow = i + 1
+				b.firstUnderflow, b.underflowCell = b.base+i+1, v
 			}
 			b.underflows++
 		}
 		col.Numbers[i] = x
 	}
 	return col, nil
+}
+
+// parsedNumbers returns a zeroed slice for the values of the text cells
+// held, reusing the builder's from the last batch.
+func (b *columnBuilder) parsedNumbers() []float64 {
+	b.parsed = slices.Grow(b.parsed[:0], len(b.text))[:len(b.text)]
+	clear(b.parsed)
+	return b.parsed
 }
 
 // underflowWarning reports the cells of a numeric column that were
@@ -434,7 +472,7 @@ func (b *columnBuilder) underflowWarning() *tabular.DataError {
 		cells = fmt.Sprintf("%d cells", b.underflows)
 	}
 	return b.fail(b.firstUnderflow, fmt.Errorf("%s (first %s) hold a nonzero number smaller than a 64-bit float can store (about 4.9e-324), read as 0",
-		cells, quoteCell(b.text[b.firstUnderflow-1])))
+		cells, quoteCell(b.underflowCell)))
 }
 
 // underflows reports whether v, which read as 0, writes a nonzero number:

@@ -14,7 +14,7 @@ import (
 	"testing"
 )
 
-var update = flag.Bool("update", false, "rewrite the golden files of testdata/bad")
+var update = flag.Bool("update", false, "rewrite the golden files of testdata/bad, and testdata/iris.parquet and iris.arrows")
 
 // A bad-input case is testdata/bad/NAME.golden, usually beside a data or
 // model file NAME.EXT. The golden file holds

@@ -9,6 +9,7 @@ import (
 
 	"deltafit/evaluate"
 	"deltafit/export"
+	"deltafit/ingest/encode"
 	"deltafit/ingest/tabular"
 )
 
@@ -26,7 +27,8 @@ func newEvaluateCmd() *cobra.Command {
 model and compares the predictions with the model's target column, which
 DATA must have. It prints the confusion table (rows: true class, columns:
 predicted), accuracy, balanced accuracy, macro F1, Cohen's kappa, and
-per-class precision, recall, F1 and support.
+per-class precision, recall, F1 and support. DATA is read and scored one
+record batch at a time, so memory does not grow with the number of rows.
 ` + exitStatusHelp,
 		Example: `  deltafit evaluate --model model.json holdout.csv
   deltafit evaluate --model model.json holdout.csv --format json | jq .accuracy`,
@@ -45,17 +47,61 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err != nil {
 		return err
 	}
-	model, table, sha, err := opts.load(path, stdin, stderr)
+	model, readOpts, err := opts.readModel(path, stdin)
 	if err != nil {
 		return err
 	}
-	table = (&missingPolicy{}).apply(table, model.Target, nil, stderr)
+	columns := []string{model.Target}
+	for _, f := range model.Plan.Features {
+		columns = append(columns, f.Column)
+	}
+	in, err := openStream(path, stdin, stderr, stderr, readOpts, columns, true)
+	if err != nil {
+		return err
+	}
+	defer in.close()
+	if len(in.Schema().FieldIndices(model.Target)) == 0 {
+		var names []string
+		for _, f := range in.Schema().Fields() {
+			names = append(names, f.Name)
+		}
+		return tabular.NoTargetColumn(path, model.Target, names)
+	}
+	confusion := evaluate.NewConfusion(model.Labels)
+	var stats encode.Stats
+	var noTarget rowsLeftOut
+	for in.Next() {
+		batch := noTarget.drop(in.Table(), tabular.MissingTarget(in.Table(), model.Target))
+		if batch.Rows == 0 {
+			continue
+		}
+		c, batchStats, err := evaluate.ScoreTable(&model.Classifier, batch)
+		if err != nil {
+			return err
+		}
+		if err := opts.checkStrict(path, batchStats); err != nil {
+			return err
+		}
+		stats.Merge(batchStats)
+		if err := confusion.Merge(c); err != nil {
+			return err
+		}
+	}
+	in.count.progress.finish()
+	if err := in.Err(); err != nil {
+		return err
+	}
+	sha, err := in.sha256()
+	if err != nil {
+		return err
+	}
+	name := tabular.DisplayName(path)
+	noTarget.warn(stderr, name+": %d %s with no target value left out (first at row %d): a row needs its class to be learned from or scored")
+	if confusion.Total() == 0 {
+		return &tabular.DataError{File: path, Name: model.Target, Err: fmt.Errorf("no row has a target value to score against")}
+	}
 	if sha == model.Data.SHA256 {
-		fmt.Fprintf(stderr, "deltafit: warning: %s: these are the bytes the model was trained on (same sha256): the figures are optimistic; evaluate on rows the model has not seen, or cross-validate with fit --folds\n", tabular.DisplayName(path))
-	}
-	confusion, stats, err := evaluate.ScoreTable(&model.Classifier, table)
-	if err != nil {
-		return err
+		fmt.Fprintf(stderr, "deltafit: warning: %s: these are the bytes the model was trained on (same sha256): the figures are optimistic; evaluate on rows the model has not seen, or cross-validate with fit --folds\n", name)
 	}
 	if err := opts.checkEncoding(stderr, path, stats); err != nil {
 		return err

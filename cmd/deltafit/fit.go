@@ -206,7 +206,7 @@ beside the majority-class and Hebbian baselines.
 	opts.input.add(cmd.Flags())
 	opts.missing.add(cmd.Flags())
 	opts.learn.add(cmd)
-	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the model file here")
+	cmd.Flags().StringVarP(&opts.output, "output", "o", "", "write the model file here; - writes it to stdout, and the report to stderr (none with --quiet)")
 	cmd.Flags().IntVar(&opts.folds, "folds", 0, "cross-validate with this many stratified folds (0: no cross-validation)")
 	cmd.Flags().IntVar(&opts.repeats, "repeats", 1, "repeat the cross-validation this many times, each with its own folds (needs --folds)")
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
@@ -218,8 +218,9 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if err != nil {
 		return err
 	}
+	report := stdout
 	if opts.output == "-" {
-		return usagef("-o -: the report goes to stdout; give the model a file name")
+		report = stderr // stdout carries the model
 	}
 	if err := checkOutput(opts.output, path); err != nil {
 		return err
@@ -235,7 +236,13 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 		return err
 	}
 	learner.Fit.Warn = warnOnce(stderr)
-	study, err := evaluate.RunStudy(ctx, d, learner, evaluate.StudyOptions{Folds: opts.folds, Repeats: opts.repeats, Seed: opts.learn.seed})
+	studyOpts := evaluate.StudyOptions{Folds: opts.folds, Repeats: opts.repeats, Seed: opts.learn.seed}
+	progress := newFitProgress(stderr)
+	if progress != nil {
+		learner.Fit.Recorder, studyOpts.Progress = progress.recorder(learner.Fit.Recorder), progress.fold
+	}
+	study, err := evaluate.RunStudy(ctx, d, learner, studyOpts)
+	progress.finish()
 	if err != nil {
 		return divergenceHint(err, opts.learn)
 	}
@@ -245,14 +252,22 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if study.Fitted.Classifier.Plan.Width() == 0 {
 		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", tabular.DisplayName(path))
 	}
+	modelPath := opts.output
 	if opts.output != "" {
 		model := export.NewModel(study.Fitted,
 			opts.learn.modelOptions(opts.input.kinds), export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
-		if err := export.WriteFile(opts.output, func(w io.Writer) error { return export.WriteModel(w, model) }); err != nil {
+		write := func(w io.Writer) error { return export.WriteModel(w, model) }
+		if opts.output == "-" {
+			modelPath = "stdout"
+			err = write(stdout)
+		} else {
+			err = export.WriteFile(opts.output, write)
+		}
+		if err != nil {
 			return err
 		}
 	}
-	return export.WriteFitReport(stdout, format, export.NewFitReport(study, d, sha, opts.learn.seed, opts.output))
+	return export.WriteFitReport(report, format, export.NewFitReport(study, d, sha, opts.learn.seed, modelPath))
 }
 
 // loadDataset checks the encoding and training flags, then reads the data

@@ -9,6 +9,9 @@ import (
 	"strings"
 	"unicode/utf8"
 
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/spf13/pflag"
 
 	"deltafit/export"
@@ -70,25 +73,104 @@ func (f *inputFlags) readOptions() (ingest.ReadOptions, error) {
 // readTable reads a whole table from a path or "-" (stdin) and returns it
 // with the sha256 of the bytes read. The reader's warnings go to stderr.
 func readTable(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions) (*tabular.Table, string, error) {
-	opts.Warn = func(w *tabular.DataError) { fmt.Fprintf(stderr, "deltafit: warning: %v\n", w) }
+	t, sha, _, err := readTableKeeping(path, stdin, stderr, opts, nil)
+	return t, sha, err
+}
+
+// keptColumns are input columns held as the input has them, to pass
+// through (--keep) beside a table read whole.
+type keptColumns struct {
+	fields []arrow.Field   // output fields (export.KeepField)
+	arrays []arrow.Array   // each column's cells, every row of the input
+	chunks [][]arrow.Array // the batches' arrays while reading
+	index  []int           // the columns' positions in the input
+}
+
+func (k *keptColumns) release() {
+	for _, a := range k.arrays {
+		a.Release()
+	}
+	for _, chunks := range k.chunks {
+		for _, a := range chunks {
+			a.Release()
+		}
+	}
+}
+
+// keepingReader passes record batches on to Collect, keeping the arrays
+// of the kept columns.
+type keepingReader struct {
+	array.RecordReader
+	kept *keptColumns
+}
+
+func (r keepingReader) Next() bool {
+	if !r.RecordReader.Next() {
+		return false
+	}
+	rec := r.RecordReader.RecordBatch()
+	for i, c := range r.kept.index {
+		a := rec.Column(c)
+		a.Retain()
+		r.kept.chunks[i] = append(r.kept.chunks[i], a)
+	}
+	return true
+}
+
+// readTableKeeping reads a whole table as readTable does, keeping the
+// named columns as the input holds them; the caller releases them.
+func readTableKeeping(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions, keep []string) (*tabular.Table, string, *keptColumns, error) {
+	var count *countingReader
+	opts.Warn = func(w *tabular.DataError) {
+		count.progress.finish() // a warning comes at the end of the input
+		fmt.Fprintf(stderr, "deltafit: warning: %v\n", w)
+	}
 	var r io.Reader = stdin
+	var file *os.File
 	if path != "-" {
 		f, err := os.Open(path)
 		if err != nil {
-			return nil, "", fmt.Errorf("cannot open the data: %w", err)
+			return nil, "", nil, fmt.Errorf("cannot open the data: %w", err)
 		}
 		defer f.Close()
-		r = f
+		r, file = f, f
 	}
+	count = &countingReader{r: r, progress: newReadProgress(stderr, file)}
+	defer count.progress.finish()
 	h := sha256.New()
-	t, err := ingest.ReadTable(path, io.TeeReader(r, h), opts)
+	rr, err := ingest.NewRecordReader(path, io.TeeReader(count, h), opts)
 	if err != nil {
-		return nil, "", err
+		return nil, "", nil, err
 	}
-	if _, err := io.Copy(h, r); err != nil {
-		return nil, "", fmt.Errorf("%s: %w", path, err)
+	defer rr.Release()
+	kept := &keptColumns{chunks: make([][]arrow.Array, len(keep))}
+	if kept.fields, kept.index, err = keepFields(path, rr.Schema(), keep); err != nil {
+		return nil, "", nil, err
 	}
-	return t, hex.EncodeToString(h.Sum(nil)), nil
+	t, err := ingest.Collect(path, keepingReader{RecordReader: rr, kept: kept}, opts)
+	if err != nil {
+		kept.release()
+		return nil, "", nil, err
+	}
+	for _, chunks := range kept.chunks {
+		joined, err := array.Concatenate(chunks, memory.DefaultAllocator)
+		if err != nil {
+			kept.release()
+			return nil, "", nil, fmt.Errorf("%s: --keep: %w", tabular.DisplayName(path), err)
+		}
+		kept.arrays = append(kept.arrays, joined)
+	}
+	for _, chunks := range kept.chunks {
+		for _, a := range chunks {
+			a.Release()
+		}
+	}
+	kept.chunks = nil
+	if _, err := io.Copy(h, count); err != nil {
+		kept.release()
+		return nil, "", nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return t, hex.EncodeToString(h.Sum(nil)), kept, nil
 }
 
 // reportFormat parses --format, as a usage error when it is not a format.
@@ -103,16 +185,27 @@ func reportFormat(s string) (export.Format, error) {
 // checkOutput refuses an output path that names an input file (the data,
 // or predict's model), which writing would replace.
 func checkOutput(output, input string) error {
-	if output == "" || input == "-" {
+	return checkOutputPath("-o", output, input)
+}
+
+// checkOutputPath checks, before any work starts, an output path given
+// with flag: not an input of the command (writing would replace it), not a
+// directory, and in a directory that exists and can be written. "" and "-"
+// (stdout) pass. Messages name the path as the user gave it.
+func checkOutputPath(flag, output string, inputs ...string) error {
+	if output == "" || output == "-" {
 		return nil
 	}
 	out, err := os.Stat(output)
-	if err != nil {
-		return nil // a new file
+	if err == nil {
+		for _, input := range inputs {
+			if input == "" || input == "-" {
+				continue
+			}
+			if in, err := os.Stat(input); err == nil && os.SameFile(in, out) {
+				return usagef("%s %s is also an input of this command; writing it would replace the input", flag, output)
+			}
+		}
 	}
-	in, err := os.Stat(input)
-	if err == nil && os.SameFile(in, out) {
-		return usagef("-o %s is also an input of this command; writing it would replace the input", output)
-	}
-	return nil
+	return export.CheckWritable(output)
 }

@@ -91,21 +91,63 @@ model file that predict and evaluate use on new rows.
 	root.SetOut(stdout)
 	root.SetErr(stderr)
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError{err} })
+	root.Version = versionLine()
+	root.SetVersionTemplate("{{.Version}}\n")
+	var quiet bool
+	root.PersistentFlags().BoolVarP(&quiet, "quiet", "q", false, "print nothing on stderr but errors: no warnings, no progress (fit -o - then prints no report)")
+	root.PersistentPreRun = func(cmd *cobra.Command, _ []string) {
+		if quiet {
+			cmd.SetErr(io.Discard)
+		}
+	}
 	root.AddCommand(
 		newFitCmd(),
 		newEvaluateCmd(),
 		newPredictCmd(),
+		newEncodeCmd(),
 		newExportCmd(),
 		newDemoCmd(),
 		newCheckCmd(),
 		newSelfcheckCmd(),
 		newVersionCmd(),
 	)
+	root.AddCommand(newCompletionCmd(), newCommandsCmd())
 	for _, c := range root.Commands() {
 		c.Args = usageArgs(c.Args)
 	}
+	exitStatusLast(root)
+	addCompletions(root)
 	return root
 }
+
+// exitStatusLast moves each command's exit status from the end of its
+// long description (where the commands put exitStatusHelp) to the end of
+// its help, after the flags: the help template prints the annotation
+// exitStatusKey last, or exitStatusHelp for a command without one (help).
+func exitStatusLast(root *cobra.Command) {
+	root.SetHelpTemplate(`{{with (or .Long .Short)}}{{. | trimTrailingWhitespaces}}
+
+{{end}}{{if or .Runnable .HasSubCommands}}{{.UsageString}}{{end}}
+{{with index .Annotations "` + exitStatusKey + `"}}{{.}}{{else}}` + strings.TrimSpace(exitStatusHelp) + `{{end}}
+`)
+	var move func(c *cobra.Command)
+	move = func(c *cobra.Command) {
+		if before, after, ok := strings.Cut(c.Long, exitStatusHelp); ok {
+			if c.Annotations == nil {
+				c.Annotations = map[string]string{}
+			}
+			c.Long = strings.TrimRight(before, "\n") + "\n"
+			c.Annotations[exitStatusKey] = strings.TrimSpace(exitStatusHelp + after)
+		}
+		for _, sub := range c.Commands() {
+			move(sub)
+		}
+	}
+	move(root)
+}
+
+// exitStatusKey is the annotation that holds a command's exit status.
+const exitStatusKey = "exit-status"
 
 // usageArgs makes argument-count errors usage errors.
 func usageArgs(check cobra.PositionalArgs) cobra.PositionalArgs {

@@ -29,7 +29,7 @@ func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
 		Dir:                 filepath.Join("testdata", "script"),
 		RequireExplicitExec: true,
-		Cmds:                map[string]func(*testscript.TestScript, bool, []string){"jsonget": jsonget},
+		Cmds:                map[string]func(*testscript.TestScript, bool, []string){"jsonget": jsonget, "convert": convert, "readtable": readtable, "sumscores": sumscores},
 		Setup: func(env *testscript.Env) error {
 			env.Setenv("DATA", data)
 			return nil

@@ -8,6 +8,7 @@ import (
 	"github.com/spf13/pflag"
 
 	"deltafit/export"
+	"deltafit/ingest"
 	"deltafit/ingest/encode"
 	"deltafit/ingest/tabular"
 )
@@ -25,30 +26,37 @@ func (m *modelInput) add(fs *pflag.FlagSet) {
 	fs.BoolVar(&m.strict, "strict", false, "refuse cells the model was not trained on (unseen categories, missing cells) instead of warning")
 }
 
-// load reads the model and then the data, read with the kinds the model's
-// plan expects (a --kind flag still wins).
-func (m *modelInput) load(path string, stdin io.Reader, stderr io.Writer) (*export.Model, *tabular.Table, string, error) {
+// readModel checks the flags and reads the model, returning it with the
+// options that read data with the kinds its plan expects (a --kind flag
+// still wins).
+func (m *modelInput) readModel(path string, stdin io.Reader) (*export.Model, ingest.ReadOptions, error) {
 	if m.model == "" {
-		return nil, nil, "", usagef("--model is required: give a model file written by fit -o")
+		return nil, ingest.ReadOptions{}, usagef("--model is required: give a model file written by fit -o")
 	}
 	if m.model == "-" && path == "-" {
-		return nil, nil, "", usagef("--model - and DATA - cannot both be stdin; give one of them as a file")
-	}
-	model, err := readModelFile(m.model, stdin)
-	if err != nil {
-		return nil, nil, "", err
+		return nil, ingest.ReadOptions{}, usagef("--model - and DATA - cannot both be stdin; give one of them as a file")
 	}
 	readOpts, err := m.input.readOptions()
 	if err != nil {
-		return nil, nil, "", err
+		return nil, readOpts, err
+	}
+	model, err := readModelFile(m.model, stdin)
+	if err != nil {
+		return nil, readOpts, err
 	}
 	readOpts.Expected = model.Plan.Kinds()
 	readOpts.Target = model.Target
-	table, sha, err := readTable(path, stdin, stderr, readOpts)
-	if err != nil {
-		return nil, nil, "", err
+	return model, readOpts, nil
+}
+
+// checkStrict refuses, with --strict, the first cell of stats that the
+// plan was not fitted on; without it, it does nothing (the warnings come
+// once, at the end, from checkEncoding).
+func (m *modelInput) checkStrict(name string, stats encode.Stats) error {
+	if !m.strict {
+		return nil
 	}
-	return model, table, sha, nil
+	return m.checkEncoding(io.Discard, name, stats)
 }
 
 // checkEncoding reports what the model's plan met that it was not fitted

@@ -58,22 +58,45 @@ func (m *missingPolicy) apply(t *tabular.Table, target string, ignore []string, 
 // dropRows keeps the rows of t that keep accepts and, if any is left out,
 // warns with format (count, "row" or "rows", first row left out).
 func dropRows(t *tabular.Table, keep func(int) bool, stderr io.Writer, format string) *tabular.Table {
-	first := 0
-	for i := range t.Rows {
-		if !keep(i) {
-			first = t.RowNumber(i)
-			break
-		}
-	}
-	kept, dropped := t.DropRows(keep)
-	if dropped > 0 {
-		rows := "rows"
-		if dropped == 1 {
-			rows = "row"
-		}
-		fmt.Fprintf(stderr, "deltafit: warning: "+format+"\n", dropped, rows, first)
-	}
+	var left rowsLeftOut
+	kept := left.drop(t, func(i int) bool { return !keep(i) })
+	left.warn(stderr, format)
 	return kept
+}
+
+// rowsLeftOut counts rows left out of batch after batch, with the input
+// number of the first.
+type rowsLeftOut struct {
+	count, first int
+}
+
+// drop returns the rows of t that leave does not pick, counting those it
+// does; the rows kept keep their input row numbers.
+func (r *rowsLeftOut) drop(t *tabular.Table, leave func(int) bool) *tabular.Table {
+	if r.count == 0 {
+		for i := range t.Rows {
+			if leave(i) {
+				r.first = t.RowNumber(i)
+				break
+			}
+		}
+	}
+	kept, dropped := t.DropRows(func(i int) bool { return !leave(i) })
+	r.count += dropped
+	return kept
+}
+
+// warn prints format (count, "row" or "rows", first row left out) as a
+// warning if any row was left out.
+func (r *rowsLeftOut) warn(stderr io.Writer, format string) {
+	if r.count == 0 {
+		return
+	}
+	rows := "rows"
+	if r.count == 1 {
+		rows = "row"
+	}
+	fmt.Fprintf(stderr, "deltafit: warning: "+format+"\n", r.count, rows, r.first)
 }
 
 func contains(list []string, s string) bool {

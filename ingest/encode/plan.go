@@ -133,7 +133,7 @@ func (p *Plan) Bind(t *tabular.Table) ([]*tabular.Column, error) {
 		}
 		c := t.Columns[k]
 		if c.Kind != f.Kind {
-			return nil, &tabular.DataError{File: t.Name, Column: k + 1, Name: f.Column,
+			return nil, &tabular.DataError{File: t.Name, Column: t.Position(f.Column), Name: f.Column,
 				Err: fmt.Errorf("the column is %s here but %s in the model's training data", c.Kind, f.Kind)}
 		}
 		cols[i] = c

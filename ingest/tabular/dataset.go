@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"errors"
 	"fmt"
+	"math"
 	"slices"
 	"strconv"
 	"strings"
@@ -36,38 +37,64 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	if col == nil {
 		return nil, &DataError{File: t.Name, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s%s", columnList(t), delimiterHint(t))}
 	}
-	for _, name := range ignore {
-		if name == target {
-			return nil, &DataError{File: t.Name, Name: name, Err: errors.New("the target column cannot also be ignored")}
-		}
-		if t.Column(name) == nil {
-			return nil, &DataError{File: t.Name, Name: name, Err: fmt.Errorf("there is no column of that name to ignore; the columns are %s", columnList(t))}
-		}
+	if err := checkIgnore(t, target, ignore); err != nil {
+		return nil, err
 	}
 	labels, classes, err := targetClasses(t, col)
 	if err != nil {
 		return nil, err
 	}
 	if (col.Kind == Numeric || (col.LabelText && allNumbers(labels))) && len(labels) > MaxNumericClasses {
-		return nil, &DataError{File: t.Name, Column: t.Index(target) + 1, Name: target,
+		return nil, &DataError{File: t.Name, Column: t.Position(target), Name: target,
 			Err: fmt.Errorf("the target holds %d distinct numbers, so it looks like a measurement, not a class (at most %d distinct numbers are taken as classes); group it into classes, or declare the column categorical to take each value as a class", len(labels), MaxNumericClasses)}
 	}
 	if len(labels) < 2 {
-		return nil, &DataError{File: t.Name, Column: t.Index(target) + 1, Name: target,
+		return nil, &DataError{File: t.Name, Column: t.Position(target), Name: target,
 			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", labels[0])}
 	}
 	d := &Dataset{Table: t, Target: target, Labels: labels, Classes: classes, SameNumber: sameNumber(labels)}
+	if d.Features, err = featureColumns(t, target, ignore); err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// Features returns the columns of t other than the target (none for "")
+// and the ignored ones, in table order, as NewDataset picks them. Ignoring
+// a column t does not have, or the target, is an error, and so is a
+// feature column whose every cell is missing.
+func Features(t *Table, target string, ignore []string) ([]*Column, error) {
+	if err := checkIgnore(t, target, ignore); err != nil {
+		return nil, err
+	}
+	return featureColumns(t, target, ignore)
+}
+
+func checkIgnore(t *Table, target string, ignore []string) error {
+	for _, name := range ignore {
+		if name == target {
+			return &DataError{File: t.Name, Name: name, Err: errors.New("the target column cannot also be ignored")}
+		}
+		if t.Column(name) == nil {
+			return &DataError{File: t.Name, Name: name, Err: fmt.Errorf("there is no column of that name to ignore; the columns are %s", columnList(t))}
+		}
+	}
+	return nil
+}
+
+func featureColumns(t *Table, target string, ignore []string) ([]*Column, error) {
+	var features []*Column
 	for _, c := range t.Columns {
-		if c == col || slices.Contains(ignore, c.Name) {
+		if c.Name == target || slices.Contains(ignore, c.Name) {
 			continue
 		}
 		if c.MissingCount() == t.Rows {
-			return nil, &DataError{File: t.Name, Column: t.Index(c.Name) + 1, Name: c.Name,
+			return nil, &DataError{File: t.Name, Column: t.Position(c.Name), Name: c.Name,
 				Err: errors.New("every cell of the column is missing; fill it in or ignore the column")}
 		}
-		d.Features = append(d.Features, c)
+		features = append(features, c)
 	}
-	return d, nil
+	return features, nil
 }
 
 // MissingTarget reports whether row i of t has no value in the target
@@ -92,12 +119,16 @@ func delimiterHint(t *Table) string {
 }
 
 // TargetClasses maps the target column of t to class indices of known
-// labels, as when a saved model scores labelled data. A label the model
-// does not know is an error naming the row.
+// labels, as when a saved model scores labelled data. A cell that is no
+// label as written matches the label of the same number or truth value in
+// the form a numeric or boolean column gives it ("1.0" and "1e0" match "1",
+// "TRUE" matches "true"), so that a target read as text finds the labels of
+// one read as numbers or booleans. A cell that matches no label is an
+// error naming the row.
 func TargetClasses(t *Table, target string, labels []string) ([]int, error) {
 	col := t.Column(target)
 	if col == nil {
-		return nil, &DataError{File: t.Name, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s", columnList(t))}
+		return nil, NoTargetColumn(t.Name, target, columnNames(t))
 	}
 	index := make(map[string]int, len(labels))
 	for i, l := range labels {
@@ -109,8 +140,11 @@ func TargetClasses(t *Table, target string, labels []string) ([]int, error) {
 			return nil, missingTarget(t, col, i)
 		}
 		k, ok := index[col.Value(i)]
+		if !ok && col.Kind == Categorical {
+			k, ok = index[canonicalValue(col.Text[i])] // "" is no label: a label is never a missing cell
+		}
 		if !ok {
-			return nil, &DataError{File: t.Name, Row: t.RowNumber(i), Column: t.Index(target) + 1, Name: target,
+			return nil, &DataError{File: t.Name, Row: t.RowNumber(i), Column: t.Position(target), Name: target,
 				Err: fmt.Errorf("class %q is not one the model was trained on (%s)", col.Value(i), quoteList(labels))}
 		}
 		classes[i] = k
@@ -136,7 +170,7 @@ func targetClasses(t *Table, col *Column) ([]string, []int, error) {
 }
 
 func missingTarget(t *Table, col *Column, row int) error {
-	return &DataError{File: t.Name, Row: t.RowNumber(row), Column: t.Index(col.Name) + 1, Name: col.Name,
+	return &DataError{File: t.Name, Row: t.RowNumber(row), Column: t.Position(col.Name), Name: col.Name,
 		Err: errors.New("the target cell is missing; every row needs a class (drop the row or fill it in)")}
 }
 
@@ -195,12 +229,20 @@ func sortLabels(labels []string) {
 	})
 }
 
-func columnList(t *Table) string {
+func columnList(t *Table) string { return quoteList(columnNames(t)) }
+
+func columnNames(t *Table) []string {
 	names := make([]string, len(t.Columns))
 	for i, c := range t.Columns {
 		names[i] = c.Name
 	}
-	return quoteList(names)
+	return names
+}
+
+// NoTargetColumn is the error of an input without the target column;
+// columns are the input's column names.
+func NoTargetColumn(file, target string, columns []string) *DataError {
+	return &DataError{File: file, Name: target, Err: fmt.Errorf("there is no target column of that name; the columns are %s", quoteList(columns))}
 }
 
 func quoteList(names []string) string {
@@ -216,4 +258,23 @@ func quoteList(names []string) string {
 		s += strconv.Quote(n)
 	}
 	return s
+}
+
+// canonicalValue returns the text of the number or truth value v writes,
+// as Column.Value gives it for a numeric or boolean cell, or "" if v is
+// neither. Numbers are read in decimal notation only, as the readers do.
+func canonicalValue(v string) string {
+	v = strings.TrimSpace(v)
+	switch strings.ToLower(v) {
+	case "true", "false":
+		return strings.ToLower(v)
+	}
+	if strings.ContainsAny(v, "xX_") {
+		return ""
+	}
+	x, err := strconv.ParseFloat(v, 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
 }

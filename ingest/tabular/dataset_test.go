@@ -265,3 +265,25 @@ func TestDropRows(t *testing.T) {
 		t.Errorf("a missing target named row %d, want the input's row 5", de.Row)
 	}
 }
+
+// A target read as text finds the labels a numeric or boolean target gave
+// the model: the same number or truth value, in any decimal form; hex
+// floats and digit separators are not numbers here, as in the readers.
+func TestTargetClassesCanonical(t *testing.T) {
+	col := &tabular.Column{Name: "y", Kind: tabular.Categorical, Text: []string{"1.0", " 2 ", "1e0", "TRUE", "2"}}
+	tab := &tabular.Table{Name: "new.csv", Rows: 5, Columns: []*tabular.Column{col}}
+	labels := []string{"1", "2", "true"}
+	classes, err := tabular.TargetClasses(tab, "y", labels)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(classes, []int{0, 1, 0, 2, 1}) {
+		t.Fatalf("classes %v", classes)
+	}
+	for _, bad := range []string{"0x1", "1_0", "one", "yes"} {
+		col.Text[0] = bad
+		if _, err := tabular.TargetClasses(tab, "y", labels); err == nil || !strings.Contains(err.Error(), "row 1") {
+			t.Fatalf("%q: error %v, want one naming row 1", bad, err)
+		}
+	}
+}

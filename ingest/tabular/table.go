@@ -104,9 +104,13 @@ type Table struct {
 	Rows    int
 	Columns []*Column
 	// RowNumbers holds the 1-based row number in the input of each row,
-	// when rows were left out after reading (DropRows); nil means row i is
-	// input row i+1.
+	// when rows were left out after reading (DropRows) or the table is a
+	// batch of a longer input; nil means row i is input row i+1.
 	RowNumbers []int
+	// ColumnNumbers holds the 1-based position in the input of each
+	// column, when the table holds some of the input's columns (a batch
+	// read by ingest.TableReader); nil means column i is input column i+1.
+	ColumnNumbers []int
 }
 
 // RowNumber returns the 1-based row number in the input of row i (0-based),
@@ -131,7 +135,7 @@ func (t *Table) DropRows(keep func(row int) bool) (*Table, int) {
 	if len(kept) == t.Rows {
 		return t, 0
 	}
-	out := &Table{Name: t.Name, Rows: len(kept), RowNumbers: make([]int, len(kept))}
+	out := &Table{Name: t.Name, Rows: len(kept), RowNumbers: make([]int, len(kept)), ColumnNumbers: t.ColumnNumbers}
 	for n, i := range kept {
 		out.RowNumbers[n] = t.RowNumber(i)
 	}
@@ -170,6 +174,19 @@ func (t *Table) Column(name string) *Column {
 		}
 	}
 	return nil
+}
+
+// Position returns the 1-based position in the input of the column with
+// the given name, the number messages show, or 0 if there is none.
+func (t *Table) Position(name string) int {
+	i := t.Index(name)
+	switch {
+	case i < 0:
+		return 0
+	case t.ColumnNumbers == nil:
+		return i + 1
+	}
+	return t.ColumnNumbers[i]
 }
 
 // Index returns the 0-based position of the column with the given name,

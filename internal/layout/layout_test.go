@@ -30,6 +30,8 @@ func TestImportDirection(t *testing.T) {
 			[]string{"deltafit/ingest", "deltafit/evaluate", "deltafit/export"}},
 		{"only cmd imports cobra", []string{"deltafit/ingest/...", "deltafit/export/...", "deltafit/internal/..."},
 			[]string{"github.com/spf13/cobra"}},
+		{"the man page generator stays out of the binary", []string{"deltafit/cmd/deltafit"},
+			[]string{"github.com/spf13/cobra/doc", "github.com/cpuguy83/go-md2man"}},
 		{"only export imports tablewriter", []string{"deltafit/ingest/...", "deltafit/evaluate/...", "deltafit/fit/..."},
 			[]string{"github.com/olekukonko/tablewriter"}},
 	} {

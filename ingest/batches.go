@@ -1,0 +1,147 @@
+package ingest
+
+import (
+	"deltafit/ingest/tabular"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+)
+
+// TableReader reads a table one record batch at a time, each batch a
+// small tabular.Table of some of its columns, so that a table of any
+// length is scored or encoded in bounded memory.
+//
+// It does not infer column kinds, which would need every row first: a
+// column has the kind ReadOptions.Kinds declares, else the kind
+// ReadOptions.Expected gives (a model's), else that of its Arrow type:
+// numbers numeric, booleans boolean and text categorical (so every CSV
+// column without a given kind is categorical). Cells are checked as
+// Collect checks them, and errors name the row in the whole input.
+type TableReader struct {
+	name     string
+	rr       array.RecordReader
+	opts     ReadOptions
+	all      []*columnBuilder // one per input column, for the names in errors
+	builders []*columnBuilder // of the chosen columns
+	index    []int            // their 0-based positions in the input
+	table    *tabular.Table
+	rows     int // rows read so far
+	err      error
+	done     bool
+}
+
+// NewTableReader reads the named columns of rr's batches; names the input
+// does not have are left out, for the caller to report as its own errors
+// do. The input's column names are checked as Collect checks them. The
+// caller keeps ownership of rr and releases it after the TableReader is
+// done with it.
+func NewTableReader(name string, rr array.RecordReader, columns []string, opts ReadOptions) (*TableReader, error) {
+	all, err := newColumnBuilders(name, rr.Schema(), opts)
+	if err != nil {
+		return nil, err
+	}
+	r := &TableReader{name: name, rr: rr, opts: opts, all: all}
+	for _, c := range columns {
+		for i, b := range all {
+			if b.name == c {
+				r.builders = append(r.builders, b)
+				r.index = append(r.index, i)
+				break
+			}
+		}
+	}
+	return r, nil
+}
+
+// Schema is the input's schema: every column, chosen or not.
+func (r *TableReader) Schema() *arrow.Schema { return r.rr.Schema() }
+
+// Next reads the next batch and reports whether there is one. After it
+// returns false, Err says why.
+func (r *TableReader) Next() bool {
+	if r.err != nil || r.done {
+		return false
+	}
+	if !r.rr.Next() {
+		r.finish()
+		return false
+	}
+	rec := r.rr.RecordBatch()
+	n := int(rec.NumRows())
+	t := &tabular.Table{Name: r.name, Rows: n, Columns: make([]*tabular.Column, len(r.builders)), RowNumbers: make([]int, n), ColumnNumbers: make([]int, len(r.builders))}
+	for k, i := range r.index {
+		t.ColumnNumbers[k] = i + 1
+	}
+	for i := range t.RowNumbers {
+		t.RowNumbers[i] = r.rows + i + 1
+	}
+	for k, b := range r.builders {
+		b.reset()
+		if err := b.append(rec.Column(r.index[k]), r.rows); err != nil {
+			err.File = r.name
+			r.err = err
+			return false
+		}
+		kind, given, reason := b.kindOf(r.opts)
+		if !given && !b.numeric && !b.boolean {
+			kind, given = tabular.Categorical, true
+		}
+		col, err := b.finish(kind, given, reason)
+		if err != nil {
+			err.File = r.name
+			r.err = err
+			return false
+		}
+		col.LabelText = b.labelText(r.opts)
+		t.Columns[k] = col
+	}
+	r.rows += n
+	r.table = t
+	return true
+}
+
+// finish ends the input: it takes the reader's error, refuses an input of
+// no rows and reports underflows to ReadOptions.Warn.
+func (r *TableReader) finish() {
+	r.done, r.table = true, nil
+	if err := r.rr.Err(); err != nil {
+		de := readError(r.name, r.rows, err)
+		if de.Column > 0 && de.Column <= len(r.all) && de.Name == "" {
+			de.Name = r.all[de.Column-1].name
+		}
+		r.err = de
+		return
+	}
+	if r.rows == 0 {
+		r.err = &tabular.DataError{File: r.name, Err: ErrNoRows}
+		return
+	}
+	for _, b := range r.builders {
+		if w := b.underflowWarning(); w != nil && r.opts.Warn != nil {
+			w.File = r.name
+			r.opts.Warn(w)
+		}
+	}
+}
+
+// Table returns the current batch: the chosen columns found in the input,
+// in the order asked for, with the rows' numbers and the columns'
+// positions in the input (Table.RowNumbers, Table.ColumnNumbers). It is valid until the next call to Next.
+func (r *TableReader) Table() *tabular.Table { return r.table }
+
+// RecordBatch returns the current batch as the input holds it, every
+// column, for columns passed through unchanged. It is valid until the next
+// call to Next.
+func (r *TableReader) RecordBatch() arrow.RecordBatch { return r.rr.RecordBatch() }
+
+// Rows is the number of rows read so far.
+func (r *TableReader) Rows() int { return r.rows }
+
+// Err returns the error that ended the reading, or nil at the end of a
+// good input. An input without rows is an error wrapping ErrNoRows.
+func (r *TableReader) Err() error {
+	if r.err == nil {
+		return nil
+	}
+	return r.err
+}
