@@ -38,23 +38,30 @@ import (
 // RowTo writes the row's 0s and 1s into dst, so the automatic rate and
 // every other reader see exactly the dense values.
 type BinaryPatterns struct {
-	width  int
-	starts []int // row i's indices are active[starts[i]:starts[i+1]]
+	width int
+	rows  []binaryRow
 	// active holds each row's indices in four groups, one per partial
 	// sum of dot, each ascending: inputs k ≡ 0 mod 4 then the tail
-	// (k ≥ tail), then k ≡ 1, k ≡ 2 and k ≡ 3 mod 4 below tail. groups
-	// holds, per row, where groups 1, 2 and 3 start, from the row's start.
+	// (k ≥ tail), then k ≡ 1, k ≡ 2 and k ≡ 3 mod 4 below tail.
 	active []uint16
-	groups [][3]uint32
 	tail   int // first input of dot's tail loop: width rounded down to a multiple of 4
 }
 
+// binaryRow locates a row's indices: active[start:start+ends[3]], its
+// groups ending at ends[0], ends[1], ends[2] and ends[3] from start. One
+// record per row, so that a row visited out of order costs one miss
+// besides its indices.
+type binaryRow struct {
+	start int
+	ends  [4]uint16
+}
+
 // maxBinaryWidth is the widest pattern BinaryPatterns holds: its indices
-// are 16 bits.
-const maxBinaryWidth = math.MaxUint16 + 1
+// and counts are 16 bits.
+const maxBinaryWidth = math.MaxUint16
 
 // PackBinary returns p packed as BinaryPatterns, and true, when every
-// value of p is +0 or 1 and its width is between 1 and 65536 inputs;
+// value of p is +0 or 1 and its width is between 1 and 65535 inputs;
 // otherwise nil and false.
 func PackBinary(p Patterns) (*BinaryPatterns, bool) {
 	if p.Width <= 0 || p.Width > maxBinaryWidth || len(p.Values)%p.Width != 0 {
@@ -74,14 +81,10 @@ func PackBinary(p Patterns) (*BinaryPatterns, bool) {
 		}
 	}
 	n := p.Len()
-	b := &BinaryPatterns{width: p.Width, starts: make([]int, n+1), active: make([]uint16, 0, ones),
-		groups: make([][3]uint32, n), tail: p.Width &^ 3}
+	b := &BinaryPatterns{width: p.Width, rows: make([]binaryRow, n), active: make([]uint16, 0, ones), tail: p.Width &^ 3}
 	for i := range n {
-		row := p.Row(i)
+		row, start := p.Row(i), len(b.active)
 		for g := range 4 {
-			if g > 0 {
-				b.groups[i][g-1] = uint32(len(b.active) - b.starts[i])
-			}
 			for k := g; k < b.tail; k += 4 {
 				if row[k] == 1 {
 					b.active = append(b.active, uint16(k))
@@ -94,10 +97,18 @@ func PackBinary(p Patterns) (*BinaryPatterns, bool) {
 					}
 				}
 			}
+			b.rows[i].ends[g] = uint16(len(b.active) - start)
 		}
-		b.starts[i+1] = len(b.active)
+		b.rows[i].start = start
 	}
 	return b, true
+}
+
+// indices returns row i's indices, the whole and its four groups.
+func (b *BinaryPatterns) indices(i int) (all, g0, g1, g2, g3 []uint16) {
+	r := b.rows[i]
+	all = b.active[r.start : r.start+int(r.ends[3])]
+	return all, all[:r.ends[0]], all[r.ends[0]:r.ends[1]], all[r.ends[1]:r.ends[2]], all[r.ends[2]:]
 }
 
 // Compact returns the smallest store of the package that holds the
@@ -111,7 +122,7 @@ func Compact(p Patterns) Store {
 }
 
 // Len returns the number of patterns.
-func (b *BinaryPatterns) Len() int { return len(b.starts) - 1 }
+func (b *BinaryPatterns) Len() int { return len(b.rows) }
 
 // Inputs returns the number of inputs of each pattern.
 func (b *BinaryPatterns) Inputs() int { return b.width }
@@ -127,7 +138,8 @@ func (b *BinaryPatterns) RowTo(dst []float64, i int) []float64 {
 		panic(fmt.Sprintf("fit: BinaryPatterns.RowTo: dst of %d values, want %d", len(dst), b.width))
 	}
 	clear(dst)
-	for _, k := range b.active[b.starts[i]:b.starts[i+1]] {
+	all, _, _, _, _ := b.indices(i)
+	for _, k := range all {
 		dst[k] = 1
 	}
 	return dst
@@ -138,9 +150,7 @@ func (b *BinaryPatterns) DotRow(i int, w []float64) float64 {
 	if len(w) != b.width {
 		panic("fit: BinaryPatterns.DotRow of a slice of the wrong length")
 	}
-	row := b.active[b.starts[i]:b.starts[i+1]]
-	g := b.groups[i]
-	g0, g1, g2, g3 := row[:g[0]], row[g[0]:g[1]], row[g[1]:g[2]], row[g[2]:]
+	_, g0, g1, g2, g3 := b.indices(i)
 	var s0, s1, s2, s3 float64
 	// The four sums are independent: step them together while every
 	// group has indices left, then finish each.
@@ -172,9 +182,20 @@ func (b *BinaryPatterns) AxpyRow(alpha float64, i int, y []float64) {
 	if len(y) != b.width {
 		panic("fit: BinaryPatterns.AxpyRow of a slice of the wrong length")
 	}
-	for _, k := range b.active[b.starts[i]:b.starts[i+1]] {
+	all, _, _, _, _ := b.indices(i)
+	for _, k := range all {
 		y[k] += alpha
 	}
+}
+
+// touchRow reads row i's record and the first and last of its indices.
+func (b *BinaryPatterns) touchRow(i int) uint64 {
+	r := b.rows[i]
+	x := uint64(r.start)
+	if n := int(r.ends[3]); n > 0 {
+		x ^= uint64(b.active[r.start]) ^ uint64(b.active[r.start+n-1])
+	}
+	return x
 }
 
 // check reports whether b holds rows patterns; its values are 0 or 1, so

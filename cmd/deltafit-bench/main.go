@@ -53,6 +53,8 @@ type report struct {
 	Classes  int    `json:"classes"`
 	Encoding string `json:"encoding"`
 	Units    int    `json:"units"`
+	// Packed says whether the patterns trained on the packed 0/1 store.
+	Packed bool `json:"packed"`
 
 	EpochVsStream   float64 `json:"epoch_vs_stream"`
 	BlasVsEpoch     float64 `json:"blas_vs_epoch"`
@@ -105,8 +107,14 @@ func run(o options, w io.Writer) error {
 	if o.childRSS != "" {
 		return childRSS(o.childRSS, opts, w)
 	}
-	if o.quick && !flagSet("n") {
-		o.rows = 200_000
+	if o.quick {
+		if !flagSet("n") {
+			o.rows = 200_000
+		}
+		if !flagSet("cv-epochs") {
+			o.cvEpochs = 1
+		}
+		repeats = 1
 	}
 	if o.epochs < 2 {
 		return errors.New("-epochs must be at least 2")
@@ -202,13 +210,25 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 
 	// An epoch and the fixed costs of a fit.
 	numClasses := len(d.Labels)
-	epoch, fixed, err := trainTimes(e.patterns, d.Classes, numClasses, o.epochs, o.seed)
+	start := time.Now()
+	store := fit.Compact(e.patterns) // as evaluate trains
+	compact := time.Since(start)
+	sec("compact", compact)
+	_, r.Packed = store.(*fit.BinaryPatterns)
+	epoch, fixed, err := trainTimes(store, d.Classes, numClasses, o.epochs, o.seed)
 	if err != nil {
 		return nil, err
 	}
 	sec("epoch", epoch)
 	sec("train_fixed", fixed)
-	allFixed := fixed + e.planTime + e.encTime
+	if r.Packed {
+		dense, _, err := trainTimes(e.patterns, d.Classes, numClasses, o.epochs, o.seed)
+		if err != nil {
+			return nil, err
+		}
+		sec("epoch_dense", dense)
+	}
+	allFixed := fixed + e.planTime + e.encTime + compact
 	sec("fixed", allFixed)
 	r.FixedVsEpoch = allFixed.Seconds() / epoch.Seconds()
 
@@ -232,7 +252,7 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 		return nil, err
 	}
 	sec("qr", qr)
-	tol, epochs, err := toleranceFitTime(e.patterns, d.Classes, numClasses, o.seed)
+	tol, epochs, err := toleranceFitTime(store, d.Classes, numClasses, o.seed)
 	if err != nil {
 		return nil, err
 	}
@@ -266,7 +286,7 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 		if err != nil {
 			return nil, err
 		}
-		t, _, err := trainTimes(se.patterns, small.Classes, len(small.Labels), o.epochs, o.seed)
+		t, _, err := trainTimes(fit.Compact(se.patterns), small.Classes, len(small.Labels), o.epochs, o.seed)
 		if err != nil {
 			return nil, err
 		}
@@ -366,7 +386,7 @@ func printTable(w io.Writer, r *report) error {
 		return err
 	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintf(tw, "rows %d, columns %d, classes %d, encoding %s (%d units)\n", r.Rows, r.Columns, r.Classes, r.Encoding, r.Units)
+	fmt.Fprintf(tw, "rows %d, columns %d, classes %d, encoding %s (%d units, packed %v)\n", r.Rows, r.Columns, r.Classes, r.Encoding, r.Units, r.Packed)
 	fmt.Fprintf(tw, "%s, %d cores, GOMAXPROCS %d, %s %s\n\n", r.Machine.CPU, r.Machine.Cores, r.Machine.GOMAXPROCS, r.Machine.Go, r.Machine.OS)
 	fmt.Fprintln(tw, "ratio\tmeasured\ttarget\tmet")
 	for _, t := range targets {

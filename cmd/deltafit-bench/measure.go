@@ -21,6 +21,10 @@ import (
 	"deltafit/ingest/tabular"
 )
 
+// repeats is how many times best runs the steps that it is told to
+// repeat; -quick sets it to 1.
+var repeats = 2
+
 // best returns the shortest of reps runs of f: the run least disturbed by
 // other work on the machine.
 func best(reps int, f func() error) (time.Duration, error) {
@@ -62,7 +66,7 @@ func encodeAll(d *tabular.Dataset, opts encode.Options) (*encoded, error) {
 // ingestTime times reading the CSV file at path into a dataset and
 // encoding it, from the file to the patterns.
 func ingestTime(path string, opts encode.Options) (time.Duration, error) {
-	return best(2, func() error {
+	return best(repeats, func() error {
 		data, err := os.ReadFile(path)
 		if err != nil {
 			return err
@@ -86,7 +90,7 @@ func arrowTime(path string, columns int) (time.Duration, error) {
 	}
 	fields = append(fields, arrow.Field{Name: targetColumn, Type: arrow.BinaryTypes.String})
 	schema := arrow.NewSchema(fields, nil)
-	return best(2, func() error {
+	return best(repeats, func() error {
 		data, err := os.ReadFile(path)
 		if err != nil {
 			return err
@@ -200,7 +204,7 @@ func blasEpochTime(values []float32, width int, classes []int, numClasses int, r
 		return 0
 	}
 	logistic := func(z float32) float32 { return float32(1 / (1 + math.Exp(-float64(z)))) }
-	d, _ := best(2, func() error {
+	d, _ := best(repeats, func() error {
 		for i := range order {
 			order[i] = i
 		}
