@@ -20,6 +20,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"runtime"
+	"runtime/pprof"
 	"slices"
 	"strconv"
 	"strings"
@@ -43,6 +44,7 @@ type options struct {
 	cvEpochs               int
 	linearity              string
 	childRSS               string // internal: measure peak RSS of a fit of this file
+	cpuProfile             string
 }
 
 // report is what one run measured. Ratios are dimensionless; times are
@@ -91,9 +93,22 @@ func main() {
 	flag.IntVar(&o.cvEpochs, "cv-epochs", 2, "epochs per fold of the timed cross-validation")
 	flag.StringVar(&o.linearity, "linearity", "", "comma-separated row counts for the linearity check (default n/10,n; 1e5,1e6 at full size)")
 	flag.StringVar(&o.childRSS, "child-rss", "", "internal: fit FILE and print the peak resident set in bytes")
+	flag.StringVar(&o.cpuProfile, "cpuprofile", "", "write a CPU profile of the run to this file")
 	flag.Parse()
+	if o.cpuProfile != "" {
+		f, err := os.Create(o.cpuProfile)
+		if err == nil {
+			err = pprof.StartCPUProfile(f)
+		}
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "deltafit-bench:", err)
+			os.Exit(1)
+		}
+		defer pprof.StopCPUProfile()
+	}
 	if err := run(o, os.Stdout); err != nil {
 		fmt.Fprintln(os.Stderr, "deltafit-bench:", err)
+		pprof.StopCPUProfile()
 		os.Exit(1)
 	}
 }
