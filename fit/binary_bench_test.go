@@ -7,16 +7,18 @@ import (
 )
 
 // BenchmarkBinaryEpoch times one online epoch (updates, averaging and
-// measurement) on 0/1 thermometer patterns held dense and packed.
+// measurement) on 0/1 thermometer patterns held dense and packed, in and
+// out of the cache.
 func BenchmarkBinaryEpoch(b *testing.B) {
-	for _, cols := range []int{8} {
-		p, labels := thermometerPatterns(200000, cols, 7, 3)
+	for _, size := range []struct{ rows, cols int }{{20000, 8}, {200000, 8}, {20000, 64}} {
+		rows, cols := size.rows, size.cols
+		p, labels := thermometerPatterns(rows, cols, 7, 3)
 		packed, _ := PackBinary(p)
 		for _, store := range []struct {
 			name string
 			s    Store
 		}{{"dense", p}, {"packed", packed}} {
-			b.Run(fmt.Sprintf("inputs=%d/%s", cols*7, store.name), func(b *testing.B) {
+			b.Run(fmt.Sprintf("rows=%d/inputs=%d/%s", rows, cols*7, store.name), func(b *testing.B) {
 				tr, err := newTrainer(context.Background(), store.s, labels, 3, Options{Workers: 1})
 				if err != nil {
 					b.Fatal(err)
