@@ -153,6 +153,12 @@ type columnBuilder struct {
 
 	underflows     int // nonzero numbers read as 0
 	firstUnderflow int // 1-based row of the first
+
+	// read holds the text cells read as numbers once numberCount has
+	// read them: the value, or NaN where the cell is missing or does not
+	// read as a number; readCount is numberCount's answer.
+	read      []float64
+	readCount int
 }
 
 func (b *columnBuilder) fail(row int, err error) *tabular.DataError {
@@ -395,19 +401,28 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		}
 		return col, nil
 	}
-	col.Numbers = make([]float64, len(b.text))
-	numbers := b.numberCount()
+	// Cells numberCount has read (to infer the kind) are not read again:
+	// a finite value is what parseNumber gives; any other cell is read
+	// again for its error.
+	col.Numbers = b.read
+	if col.Numbers == nil {
+		col.Numbers = make([]float64, len(b.text))
+	}
 	for i, v := range b.text {
 		if col.IsMissing(i) {
+			col.Numbers[i] = 0
 			continue
 		}
-		x, err := parseNumber(v)
+		x, err := col.Numbers[i], error(nil)
+		if b.read == nil || !finite(x) {
+			x, err = parseNumber(v)
+		}
 		switch {
 		case errors.Is(err, errNotNumber) && declared:
 			return nil, b.fail(i+1, fmt.Errorf("%w in a column %s numeric; fix the cell, or leave it empty or write NA if it is missing", err, reason))
 		case errors.Is(err, errNotNumber):
 			return nil, b.fail(i+1, fmt.Errorf("%w, though %d of the column's %d values are; fix the cell, leave it empty or write NA if it is missing, or declare the column categorical",
-				err, numbers, len(b.text)-countTrue(b.missing)))
+				err, b.numberCount(), len(b.text)-countTrue(b.missing)))
 		case err != nil:
 			return nil, b.fail(i+1, err)
 		}
@@ -469,18 +484,29 @@ func (b *columnBuilder) inferKind() tabular.Kind {
 }
 
 // numberCount counts present cells that read as numbers, finite or not.
+// The first call reads them, keeping the values for finish.
 func (b *columnBuilder) numberCount() int {
-	n := 0
+	if b.read != nil {
+		return b.readCount
+	}
+	b.read = make([]float64, len(b.text))
 	for i, v := range b.text {
+		b.read[i] = math.NaN()
 		if b.missing[i] {
 			continue
 		}
-		if _, err := readFloat(v); err == nil || errors.Is(err, strconv.ErrRange) {
-			n++
+		x, err := readFloat(v)
+		if err == nil || errors.Is(err, strconv.ErrRange) {
+			b.readCount++
+		}
+		if err == nil {
+			b.read[i] = x
 		}
 	}
-	return n
+	return b.readCount
 }
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
 // readFloat reads decimal notation only: strconv.ParseFloat also takes hex
 // floats ("0x1p-2") and digit separators ("1_000"), which in a table are
