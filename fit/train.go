@@ -823,8 +823,8 @@ func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 			}
 		}
 		if t.averaging {
-			axpy(1, t.current.weights, t.sumCur.weights)
-			axpy(1, t.current.biases, t.sumCur.biases)
+			add(t.current.weights, t.sumCur.weights)
+			add(t.current.biases, t.sumCur.biases)
 		}
 		if t.updates != nil {
 			t.recordUpdate(epoch, i)
