@@ -74,7 +74,9 @@ func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, work
 	}
 	values, _ := plan.EncodeTo(nil, d.Features, nil)
 	all := fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}
-	var store fit.Store = all
+	// 0/1 patterns (thermometer, one-hot, threshold, flag) train on the
+	// packed store, to the same bits and faster.
+	store := fit.Compact(all)
 	classes := d.Classes
 	if rows != nil {
 		store, classes = fit.Subset(all, rows), classesOf(d, rows)

@@ -81,8 +81,10 @@
 // of rows: Patterns is the dense float64 store, Subset a view of some rows
 // of another store without copying them (the folds of a cross-validation
 // share one store this way). A store that can compute with a row in place,
-// such as one of packed 0/1 inputs, also implements RowKernels, which the
-// trainer then uses instead of reading rows out.
+// such as BinaryPatterns, which packs 0/1 inputs as the indices of their
+// 1s, also implements RowKernels, which the trainer then uses instead of
+// reading rows out; Compact packs patterns whenever they are all 0/1, and
+// training on them gives the same bits as on the dense rows.
 //
 // Options hold the hooks of a run (hooks.go): Stop, the rules that end
 // training early (Converger; by default ZeroErrors then Plateau), a

@@ -45,6 +45,25 @@ func axpy(alpha float64, x, y []float64) {
 	}
 }
 
+// add adds x to y in place: axpy(1, x, y) to the bit (1·x is x), without
+// the multiplications.
+func add(x, y []float64) {
+	if len(x) != len(y) {
+		panic("fit: add of slices of different lengths")
+	}
+	i := 0
+	for ; i+4 <= len(x); i += 4 {
+		xs, ys := x[i:i+4:i+4], y[i:i+4:i+4]
+		ys[0] += xs[0]
+		ys[1] += xs[1]
+		ys[2] += xs[2]
+		ys[3] += xs[3]
+	}
+	for ; i < len(x); i++ {
+		y[i] += x[i]
+	}
+}
+
 // scale multiplies x by alpha in place.
 func scale(alpha float64, x []float64) {
 	for i := range x {

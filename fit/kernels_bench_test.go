@@ -45,6 +45,14 @@ func TestKernelsMatchPlainLoops(t *testing.T) {
 		if got, want := dot(x, y), plainDot(x, y); math.Abs(got-want) > float64(n)*0x1p-52*abs {
 			t.Errorf("n=%d: dot %v, plain %v", n, got, want)
 		}
+		sum, axpySum := append([]float64(nil), y...), append([]float64(nil), y...)
+		add(x, sum)
+		axpy(1, x, axpySum)
+		for i := range sum {
+			if math.Float64bits(sum[i]) != math.Float64bits(axpySum[i]) {
+				t.Fatalf("n=%d: add differs from axpy(1) at %d: %v, %v", n, i, sum[i], axpySum[i])
+			}
+		}
 		got, want := append([]float64(nil), y...), append([]float64(nil), y...)
 		axpy(0.37, x, got)
 		plainAxpy(0.37, x, want)

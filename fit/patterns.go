@@ -1,6 +1,9 @@
 package fit
 
-import "fmt"
+import (
+	"fmt"
+	"math"
+)
 
 // Patterns is the dense Store: a row-major matrix of encoded input
 // patterns, Width inputs per row. Nothing in this package modifies Values.
@@ -36,6 +39,16 @@ func (p Patterns) Row(i int) []float64 {
 
 // RowTo returns Row(i), a view of Values; dst is not used.
 func (p Patterns) RowTo(_ []float64, i int) []float64 { return p.Row(i) }
+
+// touchRow reads one value of every 64-byte cache line of pattern i.
+func (p Patterns) touchRow(i int) uint64 {
+	var x uint64
+	row := p.Row(i)
+	for k := 0; k < len(row); k += 8 {
+		x ^= math.Float64bits(row[k])
+	}
+	return x
+}
 
 // check reports whether p is well formed and holds exactly rows patterns
 // of finite values.

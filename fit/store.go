@@ -88,6 +88,26 @@ func (s subsetKernels) AxpyRow(alpha float64, i int, y []float64) {
 	s.kernels.AxpyRow(alpha, s.rows[i], y)
 }
 
+func (s subset) touchRow(i int) uint64 { return touchRow(s.store, s.rows[i]) }
+
+// rowToucher is implemented by stores that can load a row into the cache
+// ahead of its use: touchRow reads a value of every cache line of pattern
+// i and returns something made of them, so the reads are not left out.
+// An online epoch visits rows in a shuffled order, so each row would
+// otherwise be a cache miss waited on; touching a block of rows ahead
+// lets the loads overlap. It changes no arithmetic.
+type rowToucher interface {
+	touchRow(i int) uint64
+}
+
+// touchRow touches pattern i of s when s is a rowToucher.
+func touchRow(s Store, i int) uint64 {
+	if t, ok := s.(rowToucher); ok {
+		return t.touchRow(i)
+	}
+	return 0
+}
+
 // checker is implemented by the package's stores that check themselves
 // faster than row by row: that they are well formed, hold rows patterns
 // and every value is finite.
