@@ -1,6 +1,7 @@
 package export
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -561,27 +562,30 @@ func (p *printer) confusion(title string, c *evaluate.Confusion) {
 	p.table(header, rows, footer)
 }
 
+// classes prints the per-class figures: each class with its true and
+// predicted rows, then recall (found / true rows), precision (right /
+// predicted rows) and F1.
 func (p *printer) classes(classes []evaluate.ClassMetrics) {
-	p.subheading("per class")
+	p.subheading("by class")
 	rows := make([][]string, len(classes))
 	for i, m := range classes {
-		rows[i] = []string{m.Label, num(m.Precision), num(m.Recall), num(m.F1), strconv.Itoa(m.Support)}
+		rows[i] = []string{m.Label, strconv.Itoa(m.Support), strconv.Itoa(m.Predicted), num(m.Recall), num(m.Precision), num(m.F1)}
 	}
-	p.table([]string{"class", "precision", "recall", "F1", "support"}, rows, nil)
+	p.table([]string{"class", "true rows", "predicted rows", "recall", "precision", "F1"}, rows, nil)
 }
 
-// table renders one table: ASCII boxes in text, a pipe table in Markdown.
-// The first column is left-aligned, the others right-aligned.
+// table renders one table: in the house look in text, a pipe table in
+// Markdown. A column of numbers is right-aligned, any other left-aligned.
+//
+// The house look has no outer frame and no column rules: columns are set
+// apart by blank space, the header is underlined by one light rule per
+// column and a footer (totals) is set off by the same rules. Lines carry
+// no trailing blanks.
 func (p *printer) table(header []string, rows [][]string, footer []string) {
 	if p.err != nil {
 		return
 	}
-	align := make([]tw.Align, len(header))
-	for i := range align {
-		align[i] = tw.AlignRight
-	}
-	align[0] = tw.AlignLeft
-	cells := tw.CellAlignment{PerColumn: align}
+	cells := tw.CellAlignment{PerColumn: columnAlignment(len(header), rows, footer)}
 	opts := []tablewriter.Option{
 		tablewriter.WithHeaderAutoFormat(tw.Off),
 		tablewriter.WithFooterAutoFormat(tw.Off),
@@ -592,9 +596,10 @@ func (p *printer) table(header []string, rows [][]string, footer []string) {
 	if p.markdown {
 		opts = append(opts, tablewriter.WithRenderer(renderer.NewMarkdown()))
 	} else {
-		opts = append(opts, tablewriter.WithRendition(tw.Rendition{Symbols: tw.NewSymbols(tw.StyleASCII)}))
+		opts = append(opts, tablewriter.WithRendition(houseRendition()))
 	}
-	t := tablewriter.NewTable(p.w, opts...)
+	var buf bytes.Buffer
+	t := tablewriter.NewTable(&buf, opts...)
 	t.Header(header)
 	if err := t.Bulk(rows); err != nil {
 		p.err = err
@@ -611,7 +616,51 @@ func (p *printer) table(header []string, rows [][]string, footer []string) {
 			t.Footer(footer)
 		}
 	}
-	p.err = t.Render()
+	if p.err = t.Render(); p.err != nil {
+		return
+	}
+	for line := range strings.Lines(buf.String()) {
+		p.raw("%s", strings.TrimRight(line, " \n"))
+	}
+}
+
+// columnAlignment aligns right the columns whose cells (rows and footer)
+// are all numbers or empty, and the rest left. The first column, which
+// names the rows, is always left-aligned.
+func columnAlignment(columns int, rows [][]string, footer []string) []tw.Align {
+	align := make([]tw.Align, columns)
+	for j := range align {
+		align[j] = tw.AlignRight
+		if j == 0 {
+			align[j] = tw.AlignLeft
+			continue
+		}
+		for _, row := range append(rows, footer) {
+			if j < len(row) && row[j] != "" {
+				if _, err := strconv.ParseFloat(row[j], 64); err != nil {
+					align[j] = tw.AlignLeft
+					break
+				}
+			}
+		}
+	}
+	return align
+}
+
+// houseRendition is the look of every text table: light rules under the
+// header and over the footer, blank space between columns, no frame.
+func houseRendition() tw.Rendition {
+	symbols := tw.NewSymbolCustom("deltafit").
+		WithRow("─").WithColumn(" ").WithCenter(" ").
+		WithHeaderMid(" ").WithBottomMid(" ")
+	return tw.Rendition{
+		Borders: tw.Border{Left: tw.Off, Right: tw.Off, Top: tw.Off, Bottom: tw.Off},
+		Symbols: symbols,
+		Settings: tw.Settings{
+			Separators: tw.Separators{BetweenColumns: tw.On},
+			Lines:      tw.Lines{ShowHeaderLine: tw.On, ShowFooterLine: tw.On},
+		},
+	}
 }
 
 // count writes n with a noun in the singular or plural.

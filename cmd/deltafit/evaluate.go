@@ -25,8 +25,8 @@ func newEvaluateCmd() *cobra.Command {
 		Long: `Evaluate classifies the rows of DATA (a path, or - for stdin) with a saved
 model and compares the predictions with the model's target column, which
 DATA must have. It prints the confusion table (rows: true class, columns:
-predicted), accuracy, balanced accuracy, macro F1, Cohen's kappa, and
-per-class precision, recall, F1 and support.
+predicted), accuracy, balanced accuracy, macro F1, Cohen's kappa, and by
+class its true and predicted rows, recall, precision and F1.
 ` + exitStatusHelp,
 		Example: `  deltafit evaluate --model model.json holdout.csv
   deltafit evaluate --model model.json holdout.csv --format json | jq .accuracy`,
