@@ -26,6 +26,9 @@ const (
 	Text     Format = "text"
 	JSON     Format = "json"
 	Markdown Format = "markdown"
+	// HTML is the one-page report of export.WriteHTMLReport; the
+	// text-like writers do not take it.
+	HTML Format = "html"
 )
 
 // ParseFormat parses "text", "json" or "markdown".
@@ -134,20 +137,24 @@ type TableMetrics struct {
 	BalancedAccuracy float64 `json:"balanced_accuracy"`
 	MacroF1          float64 `json:"macro_f1"`
 	Kappa            float64 `json:"kappa"`
+	MCC              float64 `json:"mcc"` // Matthews correlation, multi-class form
 }
 
 func tableMetrics(c *evaluate.Confusion) TableMetrics {
-	return TableMetrics{BalancedAccuracy: c.BalancedAccuracy(), MacroF1: c.MacroF1(), Kappa: c.Kappa()}
+	return TableMetrics{BalancedAccuracy: c.BalancedAccuracy(), MacroF1: c.MacroF1(), Kappa: c.Kappa(), MCC: c.Matthews()}
 }
 
 // ConfusionDetail is a confusion table with its per-class metrics.
 type ConfusionDetail struct {
 	Confusion *evaluate.Confusion     `json:"confusion"`
 	Classes   []evaluate.ClassMetrics `json:"classes"`
+	Averages  Averages                `json:"averages"`
+	// AccuracyInterval is the 95% Wilson interval of the accuracy.
+	AccuracyInterval evaluate.Interval `json:"accuracy_wilson95"`
 }
 
 func confusionDetail(c *evaluate.Confusion) ConfusionDetail {
-	return ConfusionDetail{Confusion: c, Classes: c.PerClass()}
+	return ConfusionDetail{Confusion: c, Classes: c.PerClass(), Averages: averagesOf(c), AccuracyInterval: c.AccuracyInterval()}
 }
 
 // MethodSummary is the cross-validated outcome of a baseline.
@@ -178,6 +185,8 @@ type CVReport struct {
 	TableMetrics
 	ConfusionDetail
 	Baselines Baselines `json:"baselines"`
+	// Scores are the figures read from the out-of-fold scores.
+	Scores *ScoreFigures `json:"scores,omitempty"`
 }
 
 // NewCVReport gathers the cross-validation results of the main method and
@@ -238,6 +247,9 @@ type FitReport struct {
 	Training TrainingSummary `json:"training"`
 	CV       *CVReport       `json:"cv,omitempty"`
 	Model    string          `json:"model,omitempty"` // path of the model file written
+	// History is the learning curve of the fit on all rows, epoch by epoch.
+	History  []fit.EpochStats `json:"history"`
+	Settings *Settings        `json:"settings,omitempty"`
 }
 
 // PlanSummary is how the feature columns were encoded.
@@ -276,6 +288,7 @@ func NewFitReport(s *evaluate.Study, d *tabular.Dataset, sha string, seed uint64
 		Plan:     NewPlanSummary(s.Fitted.Classifier.Plan, s.Fitted.Encoding),
 		Training: trainingSummary(s.Fitted.Result.Network, NewTraining(s.Fitted.Result), d.Table.Rows),
 		Model:    modelPath,
+		History:  s.Fitted.Result.History,
 	}
 	if s.Main != nil {
 		r.CV = NewCVReport(seed, s.Main, s.Majority, s.Hebbian)
@@ -301,6 +314,8 @@ type EvaluationReport struct {
 	Accuracy float64     `json:"accuracy"`
 	TableMetrics
 	ConfusionDetail
+	Scores   *ScoreFigures `json:"scores,omitempty"`
+	Settings *Settings     `json:"settings,omitempty"`
 }
 
 // NewEvaluationReport reads the metrics off a confusion table.
@@ -391,8 +406,12 @@ func (p *printer) training(r *FitReport) {
 	if r.Model != "" {
 		p.line("model: written to %s", r.Model)
 	}
+	p.curve(Curve(r.History))
 	if r.CV != nil {
 		p.cv(r.CV)
+	}
+	if r.Settings != nil {
+		p.settings(*r.Settings)
 	}
 }
 
@@ -409,6 +428,11 @@ func (p *printer) evaluation(r *EvaluationReport) {
 		num(r.Accuracy), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa))
 	p.confusion("confusion table (rows: true class, columns: predicted)", r.Confusion)
 	p.classes(r.Classes)
+	p.agreement(r.ConfusionDetail, r.MCC)
+	p.scoreFigures("from the scores", r.Scores)
+	if r.Settings != nil {
+		p.settings(*r.Settings)
+	}
 }
 
 func rateNote(t TrainingSummary) string {
@@ -517,7 +541,7 @@ func (p *printer) cv(r *CVReport) {
 	if method == "hebbian" { // the fitted rule is also the baseline's: tell the rows apart
 		method = "hebbian (fitted)"
 	}
-	p.table([]string{"method", "accuracy", "fold mean", "fold sd", "balanced accuracy", "macro F1", "kappa"}, [][]string{
+	p.table([]string{"method", "accuracy", "fold mean", "fold sd", "balanced accuracy", "macro F1", "kappa", "MCC"}, [][]string{
 		methodRow(method, MethodSummary{Pooled: r.Accuracy.Pooled, Accuracy: r.Accuracy.Mean, SD: r.Accuracy.SD, TableMetrics: r.TableMetrics}),
 		methodRow("hebbian", r.Baselines.Hebbian),
 		methodRow("majority", r.Baselines.Majority),
@@ -535,10 +559,12 @@ func (p *printer) cv(r *CVReport) {
 	}
 	p.confusion(confusion, r.Confusion)
 	p.classes(r.Classes)
+	p.agreement(r.ConfusionDetail, r.MCC)
+	p.scoreFigures("from the out-of-fold scores", r.Scores)
 }
 
 func methodRow(name string, m MethodSummary) []string {
-	return []string{name, num(m.Pooled), num(m.Accuracy), num(m.SD), num(m.BalancedAccuracy), num(m.MacroF1), num(m.Kappa)}
+	return []string{name, num(m.Pooled), num(m.Accuracy), num(m.SD), num(m.BalancedAccuracy), num(m.MacroF1), num(m.Kappa), num(m.MCC)}
 }
 
 func (p *printer) confusion(title string, c *evaluate.Confusion) {
