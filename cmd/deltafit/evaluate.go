@@ -14,7 +14,8 @@ import (
 
 type evaluateOptions struct {
 	modelInput
-	format string
+	format  string
+	outputs reportOutputs
 }
 
 func newEvaluateCmd() *cobra.Command {
@@ -37,6 +38,7 @@ class its true and predicted rows, recall, precision and F1.
 	}
 	opts.modelInput.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
+	opts.outputs.add(cmd.Flags())
 	return cmd
 }
 
@@ -45,7 +47,14 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err != nil {
 		return err
 	}
+	if err := opts.outputs.check(path, opts.model); err != nil {
+		return err
+	}
 	model, table, sha, err := opts.load(path, stdin, stderr)
+	if err != nil {
+		return err
+	}
+	positive, err := opts.outputs.positiveClass(model.Labels)
 	if err != nil {
 		return err
 	}
@@ -53,13 +62,21 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if sha == model.Data.SHA256 {
 		fmt.Fprintf(stderr, "deltafit: warning: %s: these are the bytes the model was trained on (same sha256): the figures are optimistic; evaluate on rows the model has not seen, or cross-validate with fit --folds\n", tabular.DisplayName(path))
 	}
-	confusion, stats, err := evaluate.ScoreTable(&model.Classifier, table)
+	scoring, stats, err := evaluate.ScoreTableRows(&model.Classifier, table)
 	if err != nil {
 		return err
 	}
 	if err := opts.checkEncoding(stderr, path, stats); err != nil {
 		return err
 	}
+	confusion := scoring.Confusion
 	data := export.NewScoredDataSummary(path, sha, &model.Classifier, confusion)
-	return export.WriteEvaluationReport(stdout, format, export.NewEvaluationReport(data, opts.model, confusion))
+	report := export.NewEvaluationReport(data, opts.model, confusion)
+	if err := evaluationFigures(report, model, &evaluateInputs{modelPath: opts.model, dataPath: path, sha: sha, scored: scoring}, positive); err != nil {
+		return err
+	}
+	if err := writeEvaluationOutputs(report, model, opts.outputs); err != nil {
+		return err
+	}
+	return export.WriteEvaluationReport(stdout, format, report)
 }
