@@ -101,6 +101,7 @@ func (l Learner) chooseNumeric(ctx context.Context, d *tabular.Dataset, rows []i
 // returns its accuracy on the check rows, whose classes are truth.
 func (l Learner) scoreCandidate(ctx context.Context, d *tabular.Dataset, e encode.Encoding, train, check, truth []int, workers int) (float64, error) {
 	l.Plan.Numeric = e
+	l.Fit.Recorder = nil // it hears only the fit the learner returns
 	fitted, all, err := l.train(ctx, d, train, workers)
 	if err != nil {
 		return 0, err

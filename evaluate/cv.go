@@ -58,22 +58,10 @@ func (l Learner) Train(d *tabular.Dataset, rows []int) (*Fitted, error) {
 // cross-validation predicts its test rows from the same encoding without
 // encoding them again.
 func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*Fitted, fit.Patterns, error) {
-	var choice *EncodingChoice
-	if l.Plan.Numeric.Method == encode.Auto {
-		var err error
-		if l.Plan.Numeric, choice, err = l.chooseNumeric(ctx, d, rows, workers); err != nil {
-			return nil, fit.Patterns{}, err
-		}
-	}
-	plan, err := encode.FitPlan(d.Features, rows, l.Plan)
+	plan, all, choice, err := l.encode(ctx, d, rows, workers)
 	if err != nil {
 		return nil, fit.Patterns{}, err
 	}
-	if err := model.CheckSize(len(d.Labels), len(d.Features), plan.Width()); err != nil {
-		return nil, fit.Patterns{}, err
-	}
-	values, _ := plan.EncodeTo(nil, d.Features, nil)
-	all := fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}
 	// 0/1 patterns (thermometer, one-hot, threshold, flag) train on the
 	// packed store, to the same bits and faster.
 	store := fit.Compact(all)
@@ -89,6 +77,38 @@ func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, work
 	}
 	c := &model.Classifier{Target: d.Target, Labels: d.Labels, Plan: plan, Network: res.Network}
 	return &Fitted{Classifier: c, Result: res, Encoding: choice}, all, nil
+}
+
+// Encode fits the learner's plan on rows of d (0-based; nil means all),
+// first choosing the numeric encoding when it is auto, and encodes every
+// row of d with it: the patterns Train trains on, before any training.
+// l.Fit.Workers bounds the goroutines of the choice (0:
+// runtime.GOMAXPROCS(0)); l.Fit.Recorder hears none of its fits.
+func (l Learner) Encode(ctx context.Context, d *tabular.Dataset, rows []int) (*encode.Plan, fit.Patterns, *EncodingChoice, error) {
+	workers := l.Fit.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	return l.encode(ctx, d, rows, workers)
+}
+
+func (l Learner) encode(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*encode.Plan, fit.Patterns, *EncodingChoice, error) {
+	var choice *EncodingChoice
+	if l.Plan.Numeric.Method == encode.Auto {
+		var err error
+		if l.Plan.Numeric, choice, err = l.chooseNumeric(ctx, d, rows, workers); err != nil {
+			return nil, fit.Patterns{}, nil, err
+		}
+	}
+	plan, err := encode.FitPlan(d.Features, rows, l.Plan)
+	if err != nil {
+		return nil, fit.Patterns{}, nil, err
+	}
+	if err := model.CheckSize(len(d.Labels), len(d.Features), plan.Width()); err != nil {
+		return nil, fit.Patterns{}, nil, err
+	}
+	values, _ := plan.EncodeTo(nil, d.Features, nil)
+	return plan, fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}, choice, nil
 }
 
 // classesOf returns the classes of the given rows of d.
@@ -120,6 +140,27 @@ type Fold struct {
 type Method struct {
 	Name    string
 	Predict func(ctx context.Context, f Fold) ([]int, error)
+	// Score, when not nil, is used in place of Predict: it gives the
+	// classes and the scores of the test rows (Predictions.Rows = f.Test),
+	// and the result keeps them (CVResult.OutOfFold).
+	Score func(ctx context.Context, f Fold) (*model.Predictions, error)
+}
+
+// predict runs the method on fold f: its classes of the test rows, and
+// their predictions when it scores.
+func (m Method) predict(ctx context.Context, f Fold) ([]int, *model.Predictions, error) {
+	if m.Score == nil {
+		predicted, err := m.Predict(ctx, f)
+		return predicted, nil, err
+	}
+	p, err := m.Score(ctx, f)
+	if err != nil {
+		return nil, nil, err
+	}
+	if len(p.Rows) != len(f.Test) {
+		return nil, nil, fmt.Errorf("%w: %d test rows, %d scored", ErrLengthMismatch, len(f.Test), len(p.Rows))
+	}
+	return p.Predicted, p, nil
 }
 
 // LearnerMethod cross-validates a Learner, whatever rule l.Fit names. Each
@@ -127,12 +168,25 @@ type Method struct {
 // trains on a view of the training rows (fit.Subset) and predicts the test
 // rows from the same store.
 func LearnerMethod(name string, l Learner, d *tabular.Dataset) Method {
-	return Method{Name: name, Predict: func(ctx context.Context, f Fold) ([]int, error) {
+	score := func(ctx context.Context, f Fold) (*model.Predictions, error) {
 		fitted, all, err := l.train(ctx, d, f.Train, f.Workers)
 		if err != nil {
 			return nil, err
 		}
 		p, err := fitted.Classifier.PredictPatterns(d.Table.Name, all, f.Test)
+		if err != nil {
+			return nil, err
+		}
+		if d.Table.RowNumbers != nil {
+			p.RowNumbers = make([]int, len(p.Rows))
+			for n, r := range p.Rows {
+				p.RowNumbers[n] = d.Table.RowNumber(r)
+			}
+		}
+		return p, nil
+	}
+	return Method{Name: name, Score: score, Predict: func(ctx context.Context, f Fold) ([]int, error) {
+		p, err := score(ctx, f)
 		if err != nil {
 			return nil, err
 		}
@@ -170,15 +224,47 @@ type CVResult struct {
 	// its sample sd (0 for one repeat).
 	RepeatAccuracy []float64
 	RepeatSD       float64
+	// OutOfFold holds the predictions of each fold's test rows, fold after
+	// fold, repeat after repeat, for a method that scores (Method.Score);
+	// it is nil otherwise.
+	OutOfFold []FoldPredictions
+}
+
+// FoldPredictions are the predictions of one fold's test rows, made by the
+// method trained on the other folds.
+type FoldPredictions struct {
+	Repeat int // from 0
+	Fold   int // from 0, within the repeat
+	*model.Predictions
+}
+
+// Scored pairs the out-of-fold predictions of every fold with the rows'
+// true classes in d, in the order of OutOfFold.
+func (r *CVResult) Scored(d *tabular.Dataset) (Scored, error) {
+	s := Scored{Classes: len(d.Labels)}
+	for _, f := range r.OutOfFold {
+		fold, err := ScoredOf(f.Predictions, classesOf(d, f.Rows))
+		if err == nil {
+			err = s.Append(fold)
+		}
+		if err != nil {
+			return Scored{}, fmt.Errorf("evaluate: %s, fold %d: %w", r.Method, f.Fold+1, err)
+		}
+	}
+	return s, nil
 }
 
 // combine pools the results of the repeats of one method's
 // cross-validation, in repeat order.
 func combine(repeats []*CVResult) (*CVResult, error) {
 	res := &CVResult{Method: repeats[0].Method, Confusion: NewConfusion(repeats[0].Confusion.Labels)}
-	for _, r := range repeats {
+	for k, r := range repeats {
 		if err := res.Confusion.Merge(r.Confusion); err != nil {
 			return nil, err
+		}
+		for _, f := range r.OutOfFold {
+			f.Repeat = k
+			res.OutOfFold = append(res.OutOfFold, f)
 		}
 		res.FoldAccuracy = append(res.FoldAccuracy, r.FoldAccuracy...)
 		res.RepeatAccuracy = append(res.RepeatAccuracy, r.Pooled)
@@ -213,8 +299,9 @@ func CrossValidateContext(ctx context.Context, d *tabular.Dataset, folds [][]int
 		workers = runtime.GOMAXPROCS(0)
 	}
 	type outcome struct {
-		confusion *Confusion
-		err       error
+		confusion   *Confusion
+		predictions *model.Predictions
+		err         error
 	}
 	outcomes := make([]outcome, len(folds))
 	next := make(chan int)
@@ -229,7 +316,7 @@ func CrossValidateContext(ctx context.Context, d *tabular.Dataset, folds [][]int
 					continue // handed out as ctx was done: not started
 				}
 				test := folds[k]
-				predicted, err := m.Predict(ctx, Fold{Train: TrainRows(folds, k), Test: test, Workers: workers / concurrent})
+				predicted, predictions, err := m.predict(ctx, Fold{Train: TrainRows(folds, k), Test: test, Workers: workers / concurrent})
 				fold := NewConfusion(d.Labels)
 				if err == nil {
 					// AddAll, not Add: a Method that returns too few
@@ -241,7 +328,7 @@ func CrossValidateContext(ctx context.Context, d *tabular.Dataset, folds [][]int
 					outcomes[k].err = fmt.Errorf("evaluate: %s, fold %d of %d: %w", m.Name, k+1, len(folds), err)
 					continue
 				}
-				outcomes[k].confusion = fold
+				outcomes[k].confusion, outcomes[k].predictions = fold, predictions
 			}
 		}()
 	}
@@ -260,7 +347,7 @@ hand:
 	}
 
 	res := &CVResult{Method: m.Name, Confusion: NewConfusion(d.Labels)}
-	for _, o := range outcomes {
+	for k, o := range outcomes {
 		if o.err != nil {
 			return nil, o.err
 		}
@@ -268,6 +355,9 @@ hand:
 			return nil, err
 		}
 		res.FoldAccuracy = append(res.FoldAccuracy, o.confusion.Accuracy())
+		if o.predictions != nil {
+			res.OutOfFold = append(res.OutOfFold, FoldPredictions{Fold: k, Predictions: o.predictions})
+		}
 	}
 	res.Mean, res.SD = MeanSD(res.FoldAccuracy)
 	res.Pooled = res.Confusion.Accuracy()

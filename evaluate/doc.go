@@ -31,6 +31,20 @@
 //     from the row and column totals. When p_e = 1 every row is of one class
 //     and predicted as that class, so agreement is perfect and κ is 1; an
 //     empty table has κ 0.
+//   - [Confusion.Matthews] is the multi-class Matthews correlation (Gorodkin
+//     2004); it is 0 when every row is of one class or predicted as one.
+//     [Confusion.Macro] averages over the classes MacroF1 counts;
+//     [Confusion.Micro] equals the accuracy; [Confusion.Weighted] weights
+//     each class by its rows. [Confusion.AccuracyInterval] is Wilson's
+//     (1927) 95% interval.
+//
+// # Scores
+//
+// [Scored] pairs rows' true classes with their per-class scores: the ROC
+// curve and its area (Mann-Whitney form, ties counting one half), and for
+// scores that are probabilities (logistic units) the log loss and Brier's
+// score. Cross-validation keeps each fold's scored predictions when its
+// method scores ([Method.Score], [CVResult.OutOfFold]).
 //
 // # Folds
 //

@@ -54,3 +54,12 @@ func ExampleStratifiedFolds() {
 	// fold 2: 3 test rows [1 2], 7 training rows
 	// class 0 has 4 rows, fewer than the 5 folds: it is tested in 4 folds only, and some training folds lack it
 }
+
+func ExampleConfusion_Matthews() {
+	c := evaluate.NewConfusion([]string{"no", "yes"})
+	_ = c.AddAll([]int{0, 0, 0, 1, 1, 1, 1, 0}, []int{0, 0, 1, 1, 1, 1, 0, 0})
+	interval := c.AccuracyInterval()
+	fmt.Printf("accuracy %.3f, 95%% interval [%.3f, %.3f], MCC %.3f\n", c.Accuracy(), interval.Low, interval.High, c.Matthews())
+	// Output:
+	// accuracy 0.750, 95% interval [0.409, 0.929], MCC 0.500
+}

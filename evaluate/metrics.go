@@ -5,11 +5,11 @@ import "math"
 // ClassMetrics holds one class's scores read from a confusion table.
 type ClassMetrics struct {
 	Label     string  `json:"label"`
-	Precision float64 `json:"precision"` // correct / predicted
-	Recall    float64 `json:"recall"`    // correct / support
-	F1        float64 `json:"f1"`        // harmonic mean of precision and recall
 	Support   int     `json:"support"`   // rows of this true class
 	Predicted int     `json:"predicted"` // rows predicted as this class
+	Recall    float64 `json:"recall"`    // correct / support
+	Precision float64 `json:"precision"` // correct / predicted
+	F1        float64 `json:"f1"`        // harmonic mean of precision and recall
 }
 
 // ratio returns num/den, or 0 when den is 0 (the package convention).
@@ -36,11 +36,11 @@ func (c *Confusion) PerClass() []ClassMetrics {
 		correct := float64(c.Matrix[i][i])
 		metrics[i] = ClassMetrics{
 			Label:     label,
-			Precision: ratio(correct, float64(predicted[i])),
-			Recall:    ratio(correct, float64(support[i])),
-			F1:        ratio(2*correct, float64(support[i]+predicted[i])),
 			Support:   support[i],
 			Predicted: predicted[i],
+			Recall:    ratio(correct, float64(support[i])),
+			Precision: ratio(correct, float64(predicted[i])),
+			F1:        ratio(2*correct, float64(support[i]+predicted[i])),
 		}
 	}
 	return metrics

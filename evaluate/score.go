@@ -10,6 +10,23 @@ import (
 // against the classes in c's target column, which t must have. Warnings
 // about cells the plan was not fitted on are in the stats.
 func ScoreTable(c *model.Classifier, t *tabular.Table) (*Confusion, encode.Stats, error) {
+	s, stats, err := ScoreTableRows(c, t)
+	if err != nil {
+		return nil, stats, err
+	}
+	return s.Confusion, stats, nil
+}
+
+// Scoring is the outcome of classifying labelled rows: the predictions,
+// the rows' true classes in the same order, and their tally.
+type Scoring struct {
+	Predictions *model.Predictions
+	Truth       []int
+	Confusion   *Confusion
+}
+
+// ScoreTableRows is ScoreTable keeping the predictions and true classes.
+func ScoreTableRows(c *model.Classifier, t *tabular.Table) (*Scoring, encode.Stats, error) {
 	truth, err := tabular.TargetClasses(t, c.Target, c.Labels)
 	if err != nil {
 		return nil, encode.Stats{}, err
@@ -22,5 +39,31 @@ func ScoreTable(c *model.Classifier, t *tabular.Table) (*Confusion, encode.Stats
 	if err := confusion.AddAll(truth, p.Predicted); err != nil {
 		return nil, stats, err
 	}
-	return confusion, stats, nil
+	return &Scoring{Predictions: p, Truth: truth, Confusion: confusion}, stats, nil
+}
+
+// NewScoring is an empty scoring of classifier c's classes, for the
+// batches of a stream to be appended to.
+func NewScoring(c *model.Classifier) *Scoring {
+	return &Scoring{
+		Predictions: &model.Predictions{Labels: c.Labels, RowNumbers: []int{}},
+		Confusion:   NewConfusion(c.Labels),
+	}
+}
+
+// Append adds the scoring of the next batch of rows. Row numbers stay the
+// input's; the batch's 0-based rows are renumbered after the rows before.
+func (s *Scoring) Append(batch *Scoring) error {
+	if err := s.Confusion.Merge(batch.Confusion); err != nil {
+		return err
+	}
+	p, b := s.Predictions, batch.Predictions
+	for n := range b.Len() {
+		p.RowNumbers = append(p.RowNumbers, b.RowNumber(n))
+		p.Rows = append(p.Rows, len(p.Rows))
+	}
+	p.Predicted = append(p.Predicted, b.Predicted...)
+	p.Scores = append(p.Scores, b.Scores...)
+	s.Truth = append(s.Truth, batch.Truth...)
+	return nil
 }

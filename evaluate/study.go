@@ -105,14 +105,23 @@ func (c *foldCounter) count(m Method) Method {
 	if c.progress == nil {
 		return m
 	}
-	predict := m.Predict
-	m.Predict = func(ctx context.Context, f Fold) ([]int, error) {
-		classes, err := predict(ctx, f)
+	tell := func() {
 		c.mu.Lock()
 		defer c.mu.Unlock()
 		c.done++
 		c.progress(c.done, c.total)
-		return classes, err
+	}
+	if predict := m.Predict; predict != nil {
+		m.Predict = func(ctx context.Context, f Fold) ([]int, error) {
+			defer tell()
+			return predict(ctx, f)
+		}
+	}
+	if score := m.Score; score != nil {
+		m.Score = func(ctx context.Context, f Fold) (*model.Predictions, error) {
+			defer tell()
+			return score(ctx, f)
+		}
 	}
 	return m
 }

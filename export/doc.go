@@ -1,5 +1,7 @@
-// Package export hands results on: the model file, prediction files and the
-// reports of fit, evaluate and cross-validation in text, Markdown or JSON.
+// Package export hands results on: the model file, prediction and
+// out-of-fold files, the reports of fit, evaluate, check and trace in text,
+// Markdown or JSON (each with the settings its figures depend on), plots as
+// PNG and SVG, and the one-page HTML report.
 //
 // It is the last stage of the pipeline ingest → encode → fit → evaluate →
 // export. The classifier itself, and the scoring of rows, live in package
@@ -21,4 +23,7 @@
 //   - A model file is checked (size cap, schema version, keys that repeat
 //     or differ only in letter case, known rules and encodings, dimensions
 //     within the caps, finite weights) before anything in it is used.
+//   - The HTML report is one self-contained page: inline CSS and SVG, no
+//     script, nothing fetched; every text from the data is escaped, in the
+//     page and in the plots.
 package export

@@ -155,12 +155,23 @@ func TestFitReportGolden(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	settings := NewSettings("iris.csv", "test", 150, "species", m.Plan, m.Options, m.Training, fit.Options{Seed: 1})
+	settings.Folds = 5
 	report := &FitReport{
 		Data:     DataSummary{Source: "iris.csv", SHA256: "test", Rows: 150, Features: 4, Inputs: m.Plan.Width(), Target: "species", Labels: d.Labels, ClassCounts: []int{50, 50, 50}},
 		Plan:     NewPlanSummary(m.Plan, nil),
 		Training: NewTrainingSummary(m),
 		CV:       NewCVReport(1, main, majority, hebbian),
 		Model:    "iris.model.json",
+		History:  m.Training.History,
+		Settings: &settings,
+	}
+	scored, err := main.Scored(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if report.CV.Scores, err = NewScoreFigures(scored, d.Labels, fit.Logistic, -1); err != nil {
+		t.Fatal(err)
 	}
 	for _, format := range []Format{Text, Markdown, JSON} {
 		t.Run(string(format), func(t *testing.T) {
@@ -188,5 +199,54 @@ func golden(t *testing.T, name string, got []byte) {
 	}
 	if !bytes.Equal(got, want) {
 		t.Errorf("%s differs from the golden file; got:\n%s", path, got)
+	}
+}
+
+// The reports of evaluate in every format match the golden files: a
+// two-class problem (versicolor against virginica), with the ROC area.
+func TestEvaluationReportGolden(t *testing.T) {
+	d := irisDataset(t)
+	table, _ := d.Table.DropRows(func(row int) bool { return d.Labels[d.Classes[row]] != "setosa" })
+	two, err := tabular.NewDataset(table, "species", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fitted, err := evaluate.Learner{Fit: fit.Options{Seed: 1, Epochs: 50}}.Train(two, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	opts := Options{Rule: "delta", Unit: "logistic", Epochs: 50, Rate: "auto", Numeric: "thermometer:8", Categorical: "onehot:1", Seed: 1, Ignore: []string{}, Kinds: map[string]string{}}
+	m := NewModel(fitted, opts, DataInfo{Rows: two.Table.Rows, SHA256: "train"})
+	p, _, err := m.PredictTable(two.Table)
+	if err != nil {
+		t.Fatal(err)
+	}
+	confusion := evaluate.NewConfusion(m.Labels)
+	if err := confusion.AddAll(two.Classes, p.Predicted); err != nil {
+		t.Fatal(err)
+	}
+	report := NewEvaluationReport(NewScoredDataSummary("iris.csv", "test", &m.Classifier, confusion), "model.json", confusion)
+	scored, err := evaluate.ScoredOf(p, two.Classes)
+	if err != nil {
+		t.Fatal(err)
+	}
+	positive, err := PositiveClass(m.Labels, "virginica")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if report.Scores, err = NewScoreFigures(scored, m.Labels, m.Network.Unit, positive); err != nil {
+		t.Fatal(err)
+	}
+	settings := ModelSettings(m, "model.json", "iris.csv", "test", confusion.Total())
+	settings.Positive = "virginica"
+	report.Settings = &settings
+	for _, format := range []Format{Text, Markdown, JSON} {
+		t.Run(string(format), func(t *testing.T) {
+			var buf bytes.Buffer
+			if err := WriteEvaluationReport(&buf, format, report); err != nil {
+				t.Fatal(err)
+			}
+			golden(t, "evaluation_report."+string(format), buf.Bytes())
+		})
 	}
 }

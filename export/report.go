@@ -1,6 +1,7 @@
 package export
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -25,6 +26,9 @@ const (
 	Text     Format = "text"
 	JSON     Format = "json"
 	Markdown Format = "markdown"
+	// HTML is the one-page report of export.WriteHTMLReport; the
+	// text-like writers do not take it.
+	HTML Format = "html"
 )
 
 // ParseFormat parses "text", "json" or "markdown".
@@ -133,20 +137,24 @@ type TableMetrics struct {
 	BalancedAccuracy float64 `json:"balanced_accuracy"`
 	MacroF1          float64 `json:"macro_f1"`
 	Kappa            float64 `json:"kappa"`
+	MCC              float64 `json:"mcc"` // Matthews correlation, multi-class form
 }
 
 func tableMetrics(c *evaluate.Confusion) TableMetrics {
-	return TableMetrics{BalancedAccuracy: c.BalancedAccuracy(), MacroF1: c.MacroF1(), Kappa: c.Kappa()}
+	return TableMetrics{BalancedAccuracy: c.BalancedAccuracy(), MacroF1: c.MacroF1(), Kappa: c.Kappa(), MCC: c.Matthews()}
 }
 
 // ConfusionDetail is a confusion table with its per-class metrics.
 type ConfusionDetail struct {
 	Confusion *evaluate.Confusion     `json:"confusion"`
 	Classes   []evaluate.ClassMetrics `json:"classes"`
+	Averages  Averages                `json:"averages"`
+	// AccuracyInterval is the 95% Wilson interval of the accuracy.
+	AccuracyInterval evaluate.Interval `json:"accuracy_wilson95"`
 }
 
 func confusionDetail(c *evaluate.Confusion) ConfusionDetail {
-	return ConfusionDetail{Confusion: c, Classes: c.PerClass()}
+	return ConfusionDetail{Confusion: c, Classes: c.PerClass(), Averages: averagesOf(c), AccuracyInterval: c.AccuracyInterval()}
 }
 
 // MethodSummary is the cross-validated outcome of a baseline.
@@ -177,6 +185,8 @@ type CVReport struct {
 	TableMetrics
 	ConfusionDetail
 	Baselines Baselines `json:"baselines"`
+	// Scores are the figures read from the out-of-fold scores.
+	Scores *ScoreFigures `json:"scores,omitempty"`
 }
 
 // NewCVReport gathers the cross-validation results of the main method and
@@ -237,6 +247,9 @@ type FitReport struct {
 	Training TrainingSummary `json:"training"`
 	CV       *CVReport       `json:"cv,omitempty"`
 	Model    string          `json:"model,omitempty"` // path of the model file written
+	// History is the learning curve of the fit on all rows, epoch by epoch.
+	History  []fit.EpochStats `json:"history"`
+	Settings *Settings        `json:"settings,omitempty"`
 }
 
 // PlanSummary is how the feature columns were encoded.
@@ -275,6 +288,7 @@ func NewFitReport(s *evaluate.Study, d *tabular.Dataset, sha string, seed uint64
 		Plan:     NewPlanSummary(s.Fitted.Classifier.Plan, s.Fitted.Encoding),
 		Training: trainingSummary(s.Fitted.Result.Network, NewTraining(s.Fitted.Result), d.Table.Rows),
 		Model:    modelPath,
+		History:  s.Fitted.Result.History,
 	}
 	if s.Main != nil {
 		r.CV = NewCVReport(seed, s.Main, s.Majority, s.Hebbian)
@@ -300,6 +314,8 @@ type EvaluationReport struct {
 	Accuracy float64     `json:"accuracy"`
 	TableMetrics
 	ConfusionDetail
+	Scores   *ScoreFigures `json:"scores,omitempty"`
+	Settings *Settings     `json:"settings,omitempty"`
 }
 
 // NewEvaluationReport reads the metrics off a confusion table.
@@ -390,8 +406,12 @@ func (p *printer) training(r *FitReport) {
 	if r.Model != "" {
 		p.line("model: written to %s", r.Model)
 	}
+	p.curve(Curve(r.History))
 	if r.CV != nil {
 		p.cv(r.CV)
+	}
+	if r.Settings != nil {
+		p.settings(*r.Settings)
 	}
 }
 
@@ -408,6 +428,11 @@ func (p *printer) evaluation(r *EvaluationReport) {
 		num(r.Accuracy), num(r.BalancedAccuracy), num(r.MacroF1), num(r.Kappa))
 	p.confusion("confusion table (rows: true class, columns: predicted)", r.Confusion)
 	p.classes(r.Classes)
+	p.agreement(r.ConfusionDetail, r.MCC)
+	p.scoreFigures("from the scores", r.Scores)
+	if r.Settings != nil {
+		p.settings(*r.Settings)
+	}
 }
 
 func rateNote(t TrainingSummary) string {
@@ -516,7 +541,7 @@ func (p *printer) cv(r *CVReport) {
 	if method == "hebbian" { // the fitted rule is also the baseline's: tell the rows apart
 		method = "hebbian (fitted)"
 	}
-	p.table([]string{"method", "accuracy", "fold mean", "fold sd", "balanced accuracy", "macro F1", "kappa"}, [][]string{
+	p.table([]string{"method", "accuracy", "fold mean", "fold sd", "balanced accuracy", "macro F1", "kappa", "MCC"}, [][]string{
 		methodRow(method, MethodSummary{Pooled: r.Accuracy.Pooled, Accuracy: r.Accuracy.Mean, SD: r.Accuracy.SD, TableMetrics: r.TableMetrics}),
 		methodRow("hebbian", r.Baselines.Hebbian),
 		methodRow("majority", r.Baselines.Majority),
@@ -534,10 +559,12 @@ func (p *printer) cv(r *CVReport) {
 	}
 	p.confusion(confusion, r.Confusion)
 	p.classes(r.Classes)
+	p.agreement(r.ConfusionDetail, r.MCC)
+	p.scoreFigures("from the out-of-fold scores", r.Scores)
 }
 
 func methodRow(name string, m MethodSummary) []string {
-	return []string{name, num(m.Pooled), num(m.Accuracy), num(m.SD), num(m.BalancedAccuracy), num(m.MacroF1), num(m.Kappa)}
+	return []string{name, num(m.Pooled), num(m.Accuracy), num(m.SD), num(m.BalancedAccuracy), num(m.MacroF1), num(m.Kappa), num(m.MCC)}
 }
 
 func (p *printer) confusion(title string, c *evaluate.Confusion) {
@@ -561,27 +588,30 @@ func (p *printer) confusion(title string, c *evaluate.Confusion) {
 	p.table(header, rows, footer)
 }
 
+// classes prints the per-class figures: each class with its true and
+// predicted rows, then recall (found / true rows), precision (right /
+// predicted rows) and F1.
 func (p *printer) classes(classes []evaluate.ClassMetrics) {
-	p.subheading("per class")
+	p.subheading("by class")
 	rows := make([][]string, len(classes))
 	for i, m := range classes {
-		rows[i] = []string{m.Label, num(m.Precision), num(m.Recall), num(m.F1), strconv.Itoa(m.Support)}
+		rows[i] = []string{m.Label, strconv.Itoa(m.Support), strconv.Itoa(m.Predicted), num(m.Recall), num(m.Precision), num(m.F1)}
 	}
-	p.table([]string{"class", "precision", "recall", "F1", "support"}, rows, nil)
+	p.table([]string{"class", "true rows", "predicted rows", "recall", "precision", "F1"}, rows, nil)
 }
 
-// table renders one table: ASCII boxes in text, a pipe table in Markdown.
-// The first column is left-aligned, the others right-aligned.
+// table renders one table: in the house look in text, a pipe table in
+// Markdown. A column of numbers is right-aligned, any other left-aligned.
+//
+// The house look has no outer frame and no column rules: columns are set
+// apart by blank space, the header is underlined by one light rule per
+// column and a footer (totals) is set off by the same rules. Lines carry
+// no trailing blanks.
 func (p *printer) table(header []string, rows [][]string, footer []string) {
 	if p.err != nil {
 		return
 	}
-	align := make([]tw.Align, len(header))
-	for i := range align {
-		align[i] = tw.AlignRight
-	}
-	align[0] = tw.AlignLeft
-	cells := tw.CellAlignment{PerColumn: align}
+	cells := tw.CellAlignment{PerColumn: columnAlignment(len(header), rows, footer)}
 	opts := []tablewriter.Option{
 		tablewriter.WithHeaderAutoFormat(tw.Off),
 		tablewriter.WithFooterAutoFormat(tw.Off),
@@ -592,9 +622,10 @@ func (p *printer) table(header []string, rows [][]string, footer []string) {
 	if p.markdown {
 		opts = append(opts, tablewriter.WithRenderer(renderer.NewMarkdown()))
 	} else {
-		opts = append(opts, tablewriter.WithRendition(tw.Rendition{Symbols: tw.NewSymbols(tw.StyleASCII)}))
+		opts = append(opts, tablewriter.WithRendition(houseRendition()))
 	}
-	t := tablewriter.NewTable(p.w, opts...)
+	var buf bytes.Buffer
+	t := tablewriter.NewTable(&buf, opts...)
 	t.Header(header)
 	if err := t.Bulk(rows); err != nil {
 		p.err = err
@@ -611,7 +642,51 @@ func (p *printer) table(header []string, rows [][]string, footer []string) {
 			t.Footer(footer)
 		}
 	}
-	p.err = t.Render()
+	if p.err = t.Render(); p.err != nil {
+		return
+	}
+	for line := range strings.Lines(buf.String()) {
+		p.raw("%s", strings.TrimRight(line, " \n"))
+	}
+}
+
+// columnAlignment aligns right the columns whose cells (rows and footer)
+// are all numbers or empty, and the rest left. The first column, which
+// names the rows, is always left-aligned.
+func columnAlignment(columns int, rows [][]string, footer []string) []tw.Align {
+	align := make([]tw.Align, columns)
+	for j := range align {
+		align[j] = tw.AlignRight
+		if j == 0 {
+			align[j] = tw.AlignLeft
+			continue
+		}
+		for _, row := range append(rows, footer) {
+			if j < len(row) && row[j] != "" {
+				if _, err := strconv.ParseFloat(row[j], 64); err != nil {
+					align[j] = tw.AlignLeft
+					break
+				}
+			}
+		}
+	}
+	return align
+}
+
+// houseRendition is the look of every text table: light rules under the
+// header and over the footer, blank space between columns, no frame.
+func houseRendition() tw.Rendition {
+	symbols := tw.NewSymbolCustom("deltafit").
+		WithRow("─").WithColumn(" ").WithCenter(" ").
+		WithHeaderMid(" ").WithBottomMid(" ")
+	return tw.Rendition{
+		Borders: tw.Border{Left: tw.Off, Right: tw.Off, Top: tw.Off, Bottom: tw.Off},
+		Symbols: symbols,
+		Settings: tw.Settings{
+			Separators: tw.Separators{BetweenColumns: tw.On},
+			Lines:      tw.Lines{ShowHeaderLine: tw.On, ShowFooterLine: tw.On},
+		},
+	}
 }
 
 // count writes n with a noun in the singular or plural.

@@ -15,7 +15,8 @@ import (
 
 type evaluateOptions struct {
 	modelInput
-	format string
+	format  string
+	outputs reportOutputs
 }
 
 func newEvaluateCmd() *cobra.Command {
@@ -26,9 +27,10 @@ func newEvaluateCmd() *cobra.Command {
 		Long: `Evaluate classifies the rows of DATA (a path, or - for stdin) with a saved
 model and compares the predictions with the model's target column, which
 DATA must have. It prints the confusion table (rows: true class, columns:
-predicted), accuracy, balanced accuracy, macro F1, Cohen's kappa, and
-per-class precision, recall, F1 and support. DATA is read and scored one
-record batch at a time, so memory does not grow with the number of rows.
+predicted), accuracy, balanced accuracy, macro F1, Cohen's kappa, and by
+class its true and predicted rows, recall, precision and F1. DATA is read
+and scored one record batch at a time; the scores of every row are kept
+(one number per class) for the figures that need them all, such as ROC AUC.
 ` + exitStatusHelp,
 		Example: `  deltafit evaluate --model model.json holdout.csv
   deltafit evaluate --model model.json holdout.csv --format json | jq .accuracy`,
@@ -39,12 +41,16 @@ record batch at a time, so memory does not grow with the number of rows.
 	}
 	opts.modelInput.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
+	opts.outputs.add(cmd.Flags())
 	return cmd
 }
 
 func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.Reader, stdout, stderr io.Writer) error {
 	format, err := reportFormat(opts.format)
 	if err != nil {
+		return err
+	}
+	if err := opts.outputs.check(path, opts.model); err != nil {
 		return err
 	}
 	model, readOpts, err := opts.readModel(path, stdin)
@@ -67,7 +73,11 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 		}
 		return tabular.NoTargetColumn(path, model.Target, names)
 	}
-	confusion := evaluate.NewConfusion(model.Labels)
+	positive, err := opts.outputs.positiveClass(model.Labels)
+	if err != nil {
+		return err
+	}
+	scoring := evaluate.NewScoring(&model.Classifier)
 	var stats encode.Stats
 	var noTarget rowsLeftOut
 	for in.Next() {
@@ -75,7 +85,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 		if batch.Rows == 0 {
 			continue
 		}
-		c, batchStats, err := evaluate.ScoreTable(&model.Classifier, batch)
+		scored, batchStats, err := evaluate.ScoreTableRows(&model.Classifier, batch)
 		if err != nil {
 			return err
 		}
@@ -83,7 +93,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 			return err
 		}
 		stats.Merge(batchStats)
-		if err := confusion.Merge(c); err != nil {
+		if err := scoring.Append(scored); err != nil {
 			return err
 		}
 	}
@@ -97,7 +107,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	}
 	name := tabular.DisplayName(path)
 	noTarget.warn(stderr, name+": %d %s with no target value left out (first at row %d): a row needs its class to be learned from or scored")
-	if confusion.Total() == 0 {
+	if scoring.Confusion.Total() == 0 {
 		return &tabular.DataError{File: path, Name: model.Target, Err: fmt.Errorf("no row has a target value to score against")}
 	}
 	if sha == model.Data.SHA256 {
@@ -106,6 +116,14 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err := opts.checkEncoding(stderr, path, stats); err != nil {
 		return err
 	}
+	confusion := scoring.Confusion
 	data := export.NewScoredDataSummary(path, sha, &model.Classifier, confusion)
-	return export.WriteEvaluationReport(stdout, format, export.NewEvaluationReport(data, opts.model, confusion))
+	report := export.NewEvaluationReport(data, opts.model, confusion)
+	if err := evaluationFigures(report, model, &evaluateInputs{modelPath: opts.model, dataPath: path, sha: sha, scored: scoring}, positive); err != nil {
+		return err
+	}
+	if err := writeEvaluationOutputs(report, model, opts.outputs); err != nil {
+		return err
+	}
+	return export.WriteEvaluationReport(stdout, format, report)
 }

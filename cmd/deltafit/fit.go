@@ -182,6 +182,8 @@ type fitOptions struct {
 	folds   int
 	repeats int
 	format  string
+	outputs reportOutputs
+	oof     string
 }
 
 func newFitCmd() *cobra.Command {
@@ -210,6 +212,8 @@ beside the majority-class and Hebbian baselines.
 	cmd.Flags().IntVar(&opts.folds, "folds", 0, "cross-validate with this many stratified folds (0: no cross-validation)")
 	cmd.Flags().IntVar(&opts.repeats, "repeats", 1, "repeat the cross-validation this many times, each with its own folds (needs --folds)")
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
+	opts.outputs.add(cmd.Flags())
+	cmd.Flags().StringVar(&opts.oof, "oof", "", "with --folds: write each row's out-of-fold prediction (fold, true and predicted class, scores) to this CSV file")
 	return cmd
 }
 
@@ -231,11 +235,21 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if opts.repeats < 1 || (opts.repeats > 1 && opts.folds == 0) {
 		return usagef("--repeats %d: give at least 1, and more than 1 only with --folds", opts.repeats)
 	}
+	if err := opts.outputs.check(path); err != nil {
+		return err
+	}
+	if err := oofFormat(opts.oof, opts.folds, path); err != nil {
+		return err
+	}
 	learner, d, sha, err := loadDataset(opts.input, opts.learn, &opts.missing, path, stdin, stderr)
 	if err != nil {
 		return err
 	}
 	learner.Fit.Warn = warnOnce(stderr)
+	positive, err := opts.outputs.positiveClass(d.Labels)
+	if err != nil {
+		return err
+	}
 	studyOpts := evaluate.StudyOptions{Folds: opts.folds, Repeats: opts.repeats, Seed: opts.learn.seed}
 	progress := newFitProgress(stderr)
 	if progress != nil {
@@ -267,7 +281,14 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 			return err
 		}
 	}
-	return export.WriteFitReport(report, format, export.NewFitReport(study, d, sha, opts.learn.seed, modelPath))
+	fitReport := export.NewFitReport(study, d, sha, opts.learn.seed, modelPath)
+	if err := studyFigures(fitReport, study, d, learner.Fit, opts, path, sha, positive); err != nil {
+		return err
+	}
+	if err := writeStudyOutputs(fitReport, study, d, opts); err != nil {
+		return err
+	}
+	return export.WriteFitReport(report, format, fitReport)
 }
 
 // loadDataset checks the encoding and training flags, then reads the data

@@ -108,6 +108,8 @@ model file that predict and evaluate use on new rows.
 		newExportCmd(),
 		newDemoCmd(),
 		newCheckCmd(),
+		newReportCmd(),
+		newTraceCmd(),
 		newSelfcheckCmd(),
 		newVersionCmd(),
 	)

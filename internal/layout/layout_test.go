@@ -34,6 +34,8 @@ func TestImportDirection(t *testing.T) {
 			[]string{"github.com/spf13/cobra/doc", "github.com/cpuguy83/go-md2man"}},
 		{"only export imports tablewriter", []string{"deltafit/ingest/...", "deltafit/evaluate/...", "deltafit/fit/..."},
 			[]string{"github.com/olekukonko/tablewriter"}},
+		{"only export draws plots", []string{"deltafit/ingest/...", "deltafit/evaluate/...", "deltafit/fit/..."},
+			[]string{"gonum.org/v1/plot"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			for _, dep := range deps(t, tc.pkgs...) {
