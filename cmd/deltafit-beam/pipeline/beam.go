@@ -353,17 +353,20 @@ func eachTrainingBlock(ctx context.Context, c *Config, file fileio.ReadableFile,
 	}, emit)
 }
 
-// updateFn applies a training pass's totals to the state.
+// updateFn applies a training pass's totals to the state. The state is the
+// main input, the totals a side input: a pass in which no block had work
+// (every model trained, or an error) combines no partials, and a global
+// Combine of nothing gives nothing.
 type updateFn struct{ Config Config }
 
-func (f *updateFn) ProcessElement(totals []byte, stateIter func(*[]byte) bool, emit func([]byte)) error {
-	s, err := decodeState(sideInput(stateIter))
+func (f *updateFn) ProcessElement(state []byte, totalsIter func(*[]byte) bool, emit func([]byte)) error {
+	s, err := decodeState(state)
 	if err != nil {
 		return err
 	}
 	if s.Err == "" && !s.allDone() {
 		var t epochTotals
-		if err := json.Unmarshal(totals, &t); err != nil {
+		if err := json.Unmarshal(sideInput(totalsIter), &t); err != nil {
 			return fmt.Errorf("pipeline: totals: %w", err)
 		}
 		s = update(&f.Config, s, &t)
@@ -379,14 +382,14 @@ func (f *updateFn) ProcessElement(totals []byte, stateIter func(*[]byte) bool, e
 // finishFn puts the cross-validation's confusion tables into the state.
 type finishFn struct{ Config Config }
 
-func (f *finishFn) ProcessElement(scores []byte, stateIter func(*[]byte) bool, emit func([]byte)) error {
-	s, err := decodeState(sideInput(stateIter))
+func (f *finishFn) ProcessElement(state []byte, scoresIter func(*[]byte) bool, emit func([]byte)) error {
+	s, err := decodeState(state)
 	if err != nil {
 		return err
 	}
 	if s.Err == "" {
 		var b blockScores
-		if err := json.Unmarshal(scores, &b); err != nil {
+		if err := json.Unmarshal(sideInput(scoresIter), &b); err != nil {
 			return fmt.Errorf("pipeline: scores: %w", err)
 		}
 		if b.Err != "" {
@@ -475,13 +478,13 @@ func Build(s beam.Scope, c *Config) {
 		es := s.Scope(fmt.Sprintf("pass %d", pass))
 		parts := beam.ParDo(es, &epochFn{Config: *c, Pass: pass}, files, beam.SideInput{Input: state}, beam.SideInput{Input: folds})
 		totals := beam.Combine(es, &combineFn{Stage: stageEpoch, Config: *c}, parts)
-		state = beam.ParDo(es, &updateFn{Config: *c}, totals, beam.SideInput{Input: state})
+		state = beam.ParDo(es, &updateFn{Config: *c}, state, beam.SideInput{Input: totals})
 	}
 	if c.Folds >= 2 {
 		ss := s.Scope("score")
 		parts := beam.ParDo(ss, &scoreFn{Config: *c}, files, beam.SideInput{Input: state}, beam.SideInput{Input: folds})
 		scores := beam.Combine(ss, &combineFn{Stage: stageScore, Config: *c}, parts)
-		state = beam.ParDo(ss, &finishFn{Config: *c}, scores, beam.SideInput{Input: state})
+		state = beam.ParDo(ss, &finishFn{Config: *c}, state, beam.SideInput{Input: scores})
 	}
 	beam.ParDo0(s.Scope("result"), &writeFn{Config: *c}, state)
 }

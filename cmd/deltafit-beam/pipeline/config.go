@@ -88,12 +88,15 @@ func (c *Config) mode() string {
 	return c.Mode
 }
 
+// Errors of Check that the driver fills in after checking the flags.
+var (
+	ErrNoFiles = errors.New("pipeline: no input files")
+	ErrNoWork  = errors.New("pipeline: no work directory for the result")
+)
+
 // Check reports the first option that cannot be used, as an error a user
 // can act on.
 func (c *Config) Check() error {
-	if len(c.Paths) == 0 || len(c.Paths) != len(c.Keys) {
-		return errors.New("pipeline: no input files")
-	}
 	if c.Target == "" {
 		return errors.New("pipeline: no target column")
 	}
@@ -115,8 +118,10 @@ func (c *Config) Check() error {
 		return fmt.Errorf("pipeline: %d folds: give 0 for no cross-validation, or at least 2", c.Folds)
 	case c.mode() != ModeBatch && c.mode() != ModeAveraged:
 		return fmt.Errorf("pipeline: unknown training mode %q (want batch or averaged)", c.Mode)
+	case len(c.Paths) == 0 || len(c.Paths) != len(c.Keys):
+		return ErrNoFiles
 	case c.Work == "":
-		return errors.New("pipeline: no work directory for the result")
+		return ErrNoWork
 	}
 	return nil
 }
