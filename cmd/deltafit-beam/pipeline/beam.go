@@ -299,14 +299,11 @@ func (s *State) readKinds(c *Config) (map[string]tabular.Kind, error) {
 }
 
 // epochFn is a training pass's work: see train.go.
-type epochFn struct {
-	Config Config
-	Pass   int
-}
+type epochFn struct{ Config Config }
 
 func (f *epochFn) ProcessElement(ctx context.Context, file fileio.ReadableFile, stateIter, foldsIter func(*[]byte) bool, emit func(Partial)) error {
 	return eachTrainingBlock(ctx, &f.Config, file, stateIter, foldsIter, emit, func(s *State, d *blockData) (any, error) {
-		parts, err := epochBlock(&f.Config, s, d, f.Pass)
+		parts, err := epochBlock(&f.Config, s, d)
 		return blockEpoch{Models: parts}, err
 	}, func(s *State) bool { return !s.allDone() })
 }
@@ -476,7 +473,7 @@ func Build(s beam.Scope, c *Config) {
 		beam.ParDo(ps, &planFn{Config: *c}, files, beam.SideInput{Input: folds}))
 	for pass := 1; pass <= c.passes(); pass++ {
 		es := s.Scope(fmt.Sprintf("pass %d", pass))
-		parts := beam.ParDo(es, &epochFn{Config: *c, Pass: pass}, files, beam.SideInput{Input: state}, beam.SideInput{Input: folds})
+		parts := beam.ParDo(es, &epochFn{Config: *c}, files, beam.SideInput{Input: state}, beam.SideInput{Input: folds})
 		totals := beam.Combine(es, &combineFn{Stage: stageEpoch, Config: *c}, parts)
 		state = beam.ParDo(es, &updateFn{Config: *c}, state, beam.SideInput{Input: totals})
 	}

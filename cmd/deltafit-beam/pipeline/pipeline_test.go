@@ -368,3 +368,72 @@ func TestStopRulesAsLocal(t *testing.T) {
 		t.Errorf("%d training passes, want %d (one per epoch and one that measures the last)", s.Passes, len(res.History)+1)
 	}
 }
+
+// The averaged mode on one block is online training: each epoch starts
+// from the last epoch's weights, visits the rows in fit.Train's order, and
+// the average of one block is its weights. So it equals fit.Train online
+// (Iris, Fisher 1936), to 1e-9 relative after every epoch.
+func TestAveragedOneBlockIsOnline(t *testing.T) {
+	path := filepath.Join(testdata, "iris.csv")
+	c := runConfig(t, path, "species")
+	c.Mode, c.Epochs, c.KeepGoing, c.Tolerance, c.Trace, c.Seed = ModeAveraged, 25, true, 1e-300, true, 3
+	s := run(t, c)
+	d := localDataset(t, path, "species", c)
+	values, _ := s.Plans[0].EncodeTo(nil, d.Features, nil)
+	patterns := fit.Patterns{Width: s.Plans[0].Width(), Values: values}
+	m := s.Models[0]
+	if s.Passes != c.Epochs+2 {
+		t.Errorf("%d passes, want %d: the rate, one per epoch, and one that measures the last", s.Passes, c.Epochs+2)
+	}
+	worst := 0.0
+	for e := 1; e <= c.Epochs; e++ {
+		opts, _ := c.FitOptions()
+		opts.Epochs = e
+		res, err := fit.Train(patterns, d.Classes, len(d.Labels), opts)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if opts.Batch || relDiff(res.Rate, m.Rate) > 1e-12 {
+			t.Fatalf("local options batch %v, rate %v; pipeline rate %v", opts.Batch, res.Rate, m.Rate)
+		}
+		for j, w := range res.Network.Weights {
+			for i := range w {
+				worst = math.Max(worst, relDiff(m.Trace[e-1].Weights[j][i], w[i]))
+			}
+		}
+		if got, want := m.History[e-1].Errors, res.History[e-1].Errors; got != want {
+			t.Errorf("epoch %d: %d errors, local %d", e, got, want)
+		}
+	}
+	t.Logf("largest relative difference of a weight over %d epochs: %.3g", c.Epochs, worst)
+	if worst > 1e-9 {
+		t.Errorf("weights differ from online fit.Train by %.3g relative, want at most 1e-9", worst)
+	}
+}
+
+// Averaged over blocks, the weights are the same on every run (the blocks'
+// orders and the averaging order do not depend on the runner), and they
+// classify Iris (Fisher 1936) about as well as one online run: at least
+// 0.85 of the training rows (common practice for a linear model on Iris).
+func TestAveragedBlocks(t *testing.T) {
+	path := filepath.Join(testdata, "iris.csv")
+	var first *fit.Network
+	for range 2 {
+		c := runConfig(t, path, "species")
+		c.Mode, c.Epochs, c.BlockRows = ModeAveraged, 30, 25
+		s := run(t, c)
+		m := s.Models[0]
+		if first == nil {
+			first = m.Network
+			last := m.History[len(m.History)-1]
+			t.Logf("6 blocks of 25 rows, %d epochs: %d training errors", len(m.History), last.Errors)
+			if acc := 1 - float64(last.Errors)/150; acc < 0.85 {
+				t.Errorf("training accuracy %.3f, want at least 0.85", acc)
+			}
+			continue
+		}
+		if !reflect.DeepEqual(first, m.Network) {
+			t.Errorf("a second run gave other weights")
+		}
+	}
+}

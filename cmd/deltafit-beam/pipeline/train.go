@@ -89,7 +89,7 @@ func (d *blockData) trainingRows(m *ModelState) []int {
 
 // epochBlock is a training pass's work on one block: one partial per model
 // still training.
-func epochBlock(c *Config, s *State, d *blockData, pass int) ([]epochPartial, error) {
+func epochBlock(c *Config, s *State, d *blockData) ([]epochPartial, error) {
 	var parts []epochPartial
 	for k, m := range s.Models {
 		if m.Done {
@@ -116,7 +116,7 @@ func epochBlock(c *Config, s *State, d *blockData, pass int) ([]epochPartial, er
 			part.Correlation.AddRows(p, rows)
 		}
 		if averaged && m.RateSet && part.Rows > 0 {
-			net := onlineEpoch(m.Network, rule, m.Rate, p, d.classes, rows, blockSeed(c.Seed, d.block.ID), pass)
+			net := onlineEpoch(m.Network, rule, m.Rate, p, d.classes, rows, blockStream(c, d.block), m.Updates+1)
 			n := float64(part.Rows)
 			for j, w := range net.Weights {
 				part.Weighted = append(part.Weighted, w...)
@@ -130,17 +130,22 @@ func epochBlock(c *Config, s *State, d *blockData, pass int) ([]epochPartial, er
 	return parts, nil
 }
 
-// blockSeed is the stream of a block's visiting orders: a function of the
-// seed and the block's place in the data, not of the runner.
-func blockSeed(seed uint64, id string) uint64 {
-	return mix64(seed ^ rowHash(id, 0, 0))
+// blockStream is the first PCG seed of a block's visiting orders: a
+// function of the seed and the block's place in the data (its file's place
+// among the keys, its index in the file), not of the runner. The first
+// block of the first file gets the seed itself (splitmix64 maps 0 to 0),
+// so with one block the averaged mode visits the rows as fit.Train online.
+func blockStream(c *Config, b *block) uint64 {
+	file := slices.Index(slices.Sorted(slices.Values(c.Keys)), b.File)
+	return c.Seed ^ mix64(uint64(file)<<32|uint64(b.Index))
 }
 
-// onlineEpoch returns a copy of net after one online epoch of rule at rate
-// over rows of p (nil: all), visited in an order drawn from a PCG seeded
-// with (stream, pass): Δw_j = rate · Signal(t_j, y_j) · x after each row
-// (Widrow & Hoff 1960), as fit.Train does online.
-func onlineEpoch(net *fit.Network, rule fit.Rule, rate float64, p fit.Patterns, classes, rows []int, stream uint64, pass int) *fit.Network {
+// onlineEpoch returns a copy of net after online epoch epoch of rule at
+// rate over rows of p (nil: all), visited in an order drawn from a PCG
+// seeded with (stream, epoch): Δw_j = rate · Signal(t_j, y_j) · x after
+// each row (Widrow & Hoff 1960), as fit.Train's online epoch, which draws
+// its order from (seed, epoch).
+func onlineEpoch(net *fit.Network, rule fit.Rule, rate float64, p fit.Patterns, classes, rows []int, stream uint64, epoch int) *fit.Network {
 	out := *net
 	out.Weights = make([][]float64, len(net.Weights))
 	for j, w := range net.Weights {
@@ -156,7 +161,7 @@ func onlineEpoch(net *fit.Network, rule fit.Rule, rate float64, p fit.Patterns, 
 	} else {
 		order = append([]int(nil), rows...)
 	}
-	rng := rand.New(rand.NewPCG(stream, uint64(pass)))
+	rng := rand.New(rand.NewPCG(stream, uint64(epoch)))
 	rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
 	outputs := make([]float64, len(out.Weights))
 	for _, i := range order {
