@@ -113,28 +113,28 @@ func (c *Config) keyOf(path string) string {
 	return path
 }
 
-// eachBlock opens a file and calls fn with each block; an error goes into
-// a partial that sorts after the blocks read before it, so the combine
-// reports the first error in block order.
-func eachBlock(ctx context.Context, c *Config, file fileio.ReadableFile, kinds map[string]tabular.Kind, fn func(*block) error, emit func(Partial)) error {
+// eachBlock opens a file and calls fn with each block, in order.
+func eachBlock(ctx context.Context, c *Config, file fileio.ReadableFile, kinds map[string]tabular.Kind, fn func(*block) error) error {
 	path := file.Metadata.Path
-	key := c.keyOf(path)
-	index := 0
-	err := func() error {
-		r, err := file.Open(ctx)
-		if err != nil {
-			return fmt.Errorf("%s: %w", tabular.DisplayName(path), err)
-		}
-		defer r.Close()
-		return readBlocks(ctx, c, key, path, r, kinds, func(b *block) error {
-			index = b.Index + 1
-			return fn(b)
-		})
-	}()
+	r, err := file.Open(ctx)
 	if err != nil {
-		emitError(emit, blockID(key, index), err)
+		return fmt.Errorf("%s: %w", tabular.DisplayName(path), err)
 	}
-	return nil
+	defer r.Close()
+	return readBlocks(ctx, c, c.keyOf(path), path, r, kinds, fn)
+}
+
+// emitFile emits a file's partial: v, or the error that stopped the file.
+// One partial per file: each pass adds its blocks' results in block order
+// as it reads them, so a file costs the combine one partial, whatever its
+// size.
+func emitFile(emit func(Partial), c *Config, file fileio.ReadableFile, v any, err error) {
+	id := blockID(c.keyOf(file.Metadata.Path), 0)
+	if err != nil {
+		emitError(emit, id, err)
+		return
+	}
+	emitJSON(emit, id, v)
 }
 
 // emitError emits a partial that holds only an error.
@@ -160,22 +160,24 @@ type foldsFn struct{ Config Config }
 
 func (f *foldsFn) ProcessElement(ctx context.Context, file fileio.ReadableFile, emit func(Partial)) error {
 	c := &f.Config
-	return eachBlock(ctx, c, file, nil, func(b *block) error {
-		p := foldsPartial{Hashes: map[string][]uint64{}}
+	var p *foldsPartial
+	err := eachBlock(ctx, c, file, nil, func(b *block) error {
 		target := b.Table.Column(c.Target)
 		if target == nil {
 			return &tabular.DataError{File: b.Path, Name: c.Target, Err: errors.New("there is no target column of that name")}
 		}
-		p.Target = columnInfo{Name: target.Name, Kind: target.Kind, LabelText: target.LabelText}
-		p.Column = b.Table.Index(c.Target) + 1
-		p.Path = b.Path
+		if p == nil {
+			p = &foldsPartial{Hashes: map[string][]uint64{}, Path: b.Path, Column: b.Table.Index(c.Target) + 1,
+				Target: columnInfo{Name: target.Name, Kind: target.Kind, LabelText: target.LabelText}}
+		}
 		for i := range b.Table.Rows {
 			label := target.Value(i)
 			p.Hashes[label] = append(p.Hashes[label], rowHash(b.File, b.Table.RowNumber(i), foldSeed(c)))
 		}
-		emitJSON(emit, b.ID, p)
 		return nil
-	}, emit)
+	})
+	emitFile(emit, c, file, p, err)
+	return nil
 }
 
 // foldsPartial is a block's row hashes by class label.
@@ -272,17 +274,20 @@ func (f *planFn) ProcessElement(ctx context.Context, file fileio.ReadableFile, f
 		emitError(emit, blockID(key, 0), fmt.Errorf("%s: %w", tabular.DisplayName(file.Metadata.Path), err))
 		return nil
 	}
-	return eachBlock(ctx, c, file, nil, func(b *block) error {
+	var whole *planPartial
+	err = eachBlock(ctx, c, file, nil, func(b *block) error {
 		p, err := summarizeBlock(c, b, index)
 		if err != nil {
 			return err
 		}
-		if b.Index == 0 {
-			p.SHA256 = sha
+		if whole == nil {
+			p.SHA256, whole = sha, p
+			return nil
 		}
-		emitJSON(emit, b.ID, p)
-		return nil
-	}, emit)
+		return whole.absorb(p)
+	})
+	emitFile(emit, c, file, whole, err)
+	return nil
 }
 
 // readKinds are the column kinds the training passes read with: those the
@@ -302,25 +307,26 @@ func (s *State) readKinds(c *Config) (map[string]tabular.Kind, error) {
 type epochFn struct{ Config Config }
 
 func (f *epochFn) ProcessElement(ctx context.Context, file fileio.ReadableFile, stateIter, foldsIter func(*[]byte) bool, emit func(Partial)) error {
-	return eachTrainingBlock(ctx, &f.Config, file, stateIter, foldsIter, emit, func(s *State, d *blockData) (any, error) {
-		parts, err := epochBlock(&f.Config, s, d)
-		return blockEpoch{Models: parts}, err
-	}, func(s *State) bool { return !s.allDone() })
+	return eachTrainingBlock(ctx, &f.Config, file, stateIter, foldsIter, emit, func(s *State) bool { return !s.allDone() },
+		func(s *State, d *blockData) (blockEpoch, error) {
+			parts, err := epochBlock(&f.Config, s, d)
+			return blockEpoch{Models: parts}, err
+		}, (*blockEpoch).add)
 }
 
 // scoreFn is the scoring pass's work: see score.go.
 type scoreFn struct{ Config Config }
 
 func (f *scoreFn) ProcessElement(ctx context.Context, file fileio.ReadableFile, stateIter, foldsIter func(*[]byte) bool, emit func(Partial)) error {
-	return eachTrainingBlock(ctx, &f.Config, file, stateIter, foldsIter, emit, func(s *State, d *blockData) (any, error) {
-		return scoreBlock(&f.Config, s, d)
-	}, func(*State) bool { return true })
+	return eachTrainingBlock(ctx, &f.Config, file, stateIter, foldsIter, emit, func(*State) bool { return true },
+		func(s *State, d *blockData) (blockScores, error) { return scoreBlock(&f.Config, s, d) }, (*blockScores).add)
 }
 
 // eachTrainingBlock reads a file for a pass that needs the state, when
-// active says the pass has work, and emits work's result for each block.
-func eachTrainingBlock(ctx context.Context, c *Config, file fileio.ReadableFile, stateIter, foldsIter func(*[]byte) bool,
-	emit func(Partial), work func(*State, *blockData) (any, error), active func(*State) bool) error {
+// active says the pass has work: work computes each block's result, and
+// add adds it to the file's, which is emitted at the end.
+func eachTrainingBlock[T any](ctx context.Context, c *Config, file fileio.ReadableFile, stateIter, foldsIter func(*[]byte) bool,
+	emit func(Partial), active func(*State) bool, work func(*State, *blockData) (T, error), add func(total *T, next T) error) error {
 	s, err := decodeState(sideInput(stateIter))
 	if err != nil {
 		return err
@@ -336,7 +342,8 @@ func eachTrainingBlock(ctx context.Context, c *Config, file fileio.ReadableFile,
 	if err != nil {
 		return err
 	}
-	return eachBlock(ctx, c, file, kinds, func(b *block) error {
+	var total *T
+	err = eachBlock(ctx, c, file, kinds, func(b *block) error {
 		d, err := newBlockData(c, s, b, index)
 		if err != nil {
 			return err
@@ -345,9 +352,14 @@ func eachTrainingBlock(ctx context.Context, c *Config, file fileio.ReadableFile,
 		if err != nil {
 			return err
 		}
-		emitJSON(emit, b.ID, out)
-		return nil
-	}, emit)
+		if total == nil {
+			total = &out
+			return nil
+		}
+		return add(total, out)
+	})
+	emitFile(emit, c, file, total, err)
+	return nil
 }
 
 // updateFn applies a training pass's totals to the state. The state is the

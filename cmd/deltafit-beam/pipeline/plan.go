@@ -183,20 +183,14 @@ func mergePlan(c *Config, parts []Partial) (*State, error) {
 		} else if err := sameColumns(first, &p); err != nil {
 			return nil, err
 		}
-		if len(p.Plans) == 0 {
-			continue // a block whose rows were all left out
-		}
 		if merged == nil {
-			merged = &p
+			if len(p.Plans) > 0 {
+				merged = &p
+			}
 			continue
 		}
-		for k := range merged.Plans {
-			for i, sum := range merged.Plans[k] {
-				if err := sum.Merge(p.Plans[k][i]); err != nil {
-					return nil, err
-				}
-			}
-			addCounts(merged.LabelRows[k], p.LabelRows[k])
+		if err := merged.mergeSummaries(&p); err != nil {
+			return nil, err
 		}
 	}
 	if first == nil {
@@ -268,6 +262,44 @@ func mergePlan(c *Config, parts []Partial) (*State, error) {
 		return nil, err
 	}
 	return s, nil
+}
+
+// mergeSummaries adds the summaries and label counts of later rows; a
+// partial without summaries (its rows were all left out) adds nothing.
+func (p *planPartial) mergeSummaries(q *planPartial) error {
+	if len(q.Plans) == 0 {
+		return nil
+	}
+	if len(p.Plans) == 0 {
+		p.Plans, p.Labels, p.LabelRows = q.Plans, q.Labels, q.LabelRows
+		return nil
+	}
+	for k := range p.Plans {
+		for i, sum := range p.Plans[k] {
+			if err := sum.Merge(q.Plans[k][i]); err != nil {
+				return err
+			}
+		}
+		addCounts(p.LabelRows[k], q.LabelRows[k])
+	}
+	return nil
+}
+
+// absorb adds the partial of the next block of the same file.
+func (p *planPartial) absorb(q *planPartial) error {
+	if err := sameColumns(p, q); err != nil {
+		return err
+	}
+	p.Read += q.Read
+	if p.NoTarget == 0 {
+		p.FirstNoTarget = q.FirstNoTarget
+	}
+	if p.Dropped == 0 {
+		p.FirstDropped = q.FirstDropped
+	}
+	p.NoTarget += q.NoTarget
+	p.Dropped += q.Dropped
+	return p.mergeSummaries(q)
 }
 
 // checkColumns checks the target and ignored columns against a block's.

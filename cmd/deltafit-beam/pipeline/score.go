@@ -21,9 +21,9 @@ type blockScores struct {
 }
 
 // scoreBlock classifies the block's rows with the models of their folds.
-func scoreBlock(c *Config, s *State, d *blockData) (*blockScores, error) {
+func scoreBlock(c *Config, s *State, d *blockData) (blockScores, error) {
 	n := len(s.Labels)
-	out := &blockScores{}
+	out := blockScores{}
 	tables := func() [][][]int {
 		t := make([][][]int, c.Folds)
 		for k := range t {
@@ -41,7 +41,7 @@ func scoreBlock(c *Config, s *State, d *blockData) (*blockScores, error) {
 		}
 		p, err := d.patternsOf(s, m.Plan)
 		if err != nil {
-			return nil, err
+			return out, err
 		}
 		dst := out.Main
 		if m.Kind == KindHebbian {
@@ -76,20 +76,26 @@ func reduceScores(parts []Partial) *blockScores {
 			total = &b
 			continue
 		}
-		for _, pair := range [][2][][][]int{{total.Main, b.Main}, {total.Majority, b.Majority}, {total.Hebbian, b.Hebbian}} {
-			for k, table := range pair[1] {
-				for i, row := range table {
-					for j, n := range row {
-						pair[0][k][i][j] += n
-					}
-				}
-			}
-		}
+		total.add(b)
 	}
 	if total == nil {
 		return &blockScores{Err: "pipeline: the scoring pass read no rows"}
 	}
 	return total
+}
+
+// add adds the counts of later rows.
+func (b *blockScores) add(next blockScores) error {
+	for _, pair := range [][2][][][]int{{b.Main, next.Main}, {b.Majority, next.Majority}, {b.Hebbian, next.Hebbian}} {
+		for k, table := range pair[1] {
+			for i, row := range table {
+				for j, n := range row {
+					pair[0][k][i][j] += n
+				}
+			}
+		}
+	}
+	return nil
 }
 
 // foldScores turns the summed tables into confusion tables per fold, and

@@ -197,40 +197,56 @@ type epochTotals struct {
 	Models []epochPartial `json:"models"` // indexed by model; Model -1 for none
 }
 
-// reduceEpoch adds the partials of a training pass in block order.
+// reduceEpoch adds the files' partials of a training pass in key order.
 func reduceEpoch(parts []Partial) *epochTotals {
-	t := &epochTotals{}
-	byModel := map[int]*epochPartial{}
-	most := -1
+	var total *blockEpoch
 	for _, part := range parts {
-		var block blockEpoch
-		if err := json.Unmarshal(part.Data, &block); err != nil {
+		var b blockEpoch
+		if err := json.Unmarshal(part.Data, &b); err != nil {
 			return &epochTotals{Err: fmt.Sprintf("pipeline: epoch partial: %v", err)}
 		}
-		if block.Err != "" {
-			return &epochTotals{Err: block.Err}
+		if b.Err != "" {
+			return &epochTotals{Err: b.Err}
 		}
-		for _, p := range block.Models {
-			total, ok := byModel[p.Model]
-			if !ok {
-				cp := p
-				byModel[p.Model] = &cp
-				most = max(most, p.Model)
-				continue
-			}
-			if err := total.merge(p); err != nil {
-				return &epochTotals{Err: err.Error()}
-			}
+		if total == nil {
+			total = &b
+			continue
 		}
+		if err := total.add(b); err != nil {
+			return &epochTotals{Err: err.Error()}
+		}
+	}
+	t := &epochTotals{}
+	if total == nil {
+		return t
+	}
+	most := -1
+	for _, p := range total.Models {
+		most = max(most, p.Model)
 	}
 	t.Models = make([]epochPartial, most+1)
 	for k := range t.Models {
 		t.Models[k].Model = -1
-		if p, ok := byModel[k]; ok {
-			t.Models[k] = *p
-		}
+	}
+	for _, p := range total.Models {
+		t.Models[p.Model] = p
 	}
 	return t
+}
+
+// add adds the sums of later rows, model by model.
+func (b *blockEpoch) add(next blockEpoch) error {
+	for _, p := range next.Models {
+		i := slices.IndexFunc(b.Models, func(q epochPartial) bool { return q.Model == p.Model })
+		if i < 0 {
+			b.Models = append(b.Models, p)
+			continue
+		}
+		if err := b.Models[i].merge(p); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // blockEpoch is the payload of one block's training partial.
