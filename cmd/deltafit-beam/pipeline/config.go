@@ -222,7 +222,7 @@ func (c *Config) stopRules() []fit.Converger {
 	if tolerance == 0 {
 		tolerance = fit.DefaultTolerance
 	}
-	return append(rules, fit.LossChange{Tolerance: tolerance})
+	return append(rules, fit.Plateau{Tolerance: tolerance, Patience: fit.DefaultPatience})
 }
 
 // FitOptions are the options of fit.Train that train as a pipeline run in

@@ -5,6 +5,7 @@ import (
 	"fmt"
 
 	"deltafit/evaluate"
+	"deltafit/fit/model"
 )
 
 // The scoring pass of a cross-validation: each row of fold k is classified
@@ -47,12 +48,21 @@ func scoreBlock(c *Config, s *State, d *blockData) (blockScores, error) {
 		if m.Kind == KindHebbian {
 			dst = out.Hebbian
 		}
+		var rows []int
 		for i, fold := range d.rowFolds {
-			if fold != m.Fold-1 {
-				continue
+			if fold == m.Fold-1 {
+				rows = append(rows, i)
 			}
-			truth := d.classes[i]
-			dst[fold][truth][m.Network.Classify(p.Row(i))]++
+		}
+		// Scored through the one scoring path of the local tool.
+		classifier := &model.Classifier{Labels: s.Labels, Plan: s.Plans[m.Plan], Network: m.Network}
+		scored, err := classifier.PredictPatterns("", p, rows)
+		if err != nil {
+			return out, err
+		}
+		for k, i := range rows {
+			fold, truth := m.Fold-1, d.classes[i]
+			dst[fold][truth][scored.Predicted[k]]++
 			if m.Kind == KindMain {
 				out.Majority[fold][truth][m.Majority]++
 			}
