@@ -72,7 +72,8 @@ type tableWriter struct {
 	mem     memory.Allocator
 	started bool
 	buf     []byte
-	keys    [][]byte // JSONL: each column's `"name":`, with its separator
+	keys    [][]byte          // JSONL: each column's `"name":`, with its separator
+	labels  map[string][]byte // CSV: labels as fields
 	ipc     *ipc.Writer
 	pq      *pqarrow.FileWriter
 }
@@ -180,12 +181,19 @@ const textFlushBytes = 64 << 10
 func (tw *tableWriter) writeCSV(cols []column, n int) error {
 	var cell []byte
 	for i := range n {
-		for j, c := range cols {
+		for j, col := range cols {
 			if j > 0 {
 				tw.buf = append(tw.buf, ',')
 			}
-			cell, _ = c.appendText(cell[:0], i)
-			tw.buf = appendCSVField(tw.buf, cell)
+			switch c := col.(type) {
+			case floatColumn, intColumn: // numbers never need quotes
+				tw.buf, _ = c.appendText(tw.buf, i)
+			case labelColumn:
+				tw.buf = append(tw.buf, tw.csvLabel(c.labels[c.index[i]])...)
+			default:
+				cell, _ = c.appendText(cell[:0], i)
+				tw.buf = appendCSVField(tw.buf, cell)
+			}
 		}
 		tw.buf = append(tw.buf, '\n')
 		if len(tw.buf) >= textFlushBytes {
@@ -229,6 +237,20 @@ func (tw *tableWriter) writeJSONL(cols []column, n int, cellError func(col, row 
 		}
 	}
 	return tw.flush()
+}
+
+// csvLabel returns a label as a CSV field, quoted if it needs to be,
+// from the writer's cache.
+func (tw *tableWriter) csvLabel(label string) []byte {
+	field, ok := tw.labels[label]
+	if !ok {
+		if tw.labels == nil {
+			tw.labels = map[string][]byte{}
+		}
+		field = appendCSVField(nil, []byte(label))
+		tw.labels[label] = field
+	}
+	return field
 }
 
 // close ends the table: the CSV header of a table of no rows, the end of

@@ -20,27 +20,40 @@ import (
 type TableReader struct {
 	name     string
 	rr       array.RecordReader
+	schema   *arrow.Schema // rr's, taken before reading ahead starts
 	opts     ReadOptions
 	all      []*columnBuilder // one per input column, for the names in errors
 	builders []*columnBuilder // of the chosen columns
 	index    []int            // their 0-based positions in the input
 	table    *tabular.Table
-	rows     int // rows read so far
+	rec      arrow.RecordBatch // the current batch, retained
+	rows     int               // rows read so far
 	err      error
 	done     bool
+
+	// The input's batches are read ahead, in a goroutine of their own, so
+	// that decoding the next batch overlaps the work on this one.
+	batches chan arrow.RecordBatch
+	stop    chan struct{}
+	stopped bool
 }
+
+// readAhead is how many batches a TableReader reads ahead of the one in
+// use.
+const readAhead = 2
 
 // NewTableReader reads the named columns of rr's batches; names the input
 // does not have are left out, for the caller to report as its own errors
-// do. The input's column names are checked as Collect checks them. The
-// caller keeps ownership of rr and releases it after the TableReader is
-// done with it.
+// do. The input's column names are checked as Collect checks them. It
+// reads rr ahead in a goroutine of its own from now on, so rr is the
+// TableReader's until Close; the caller then releases rr.
 func NewTableReader(name string, rr array.RecordReader, columns []string, opts ReadOptions) (*TableReader, error) {
 	all, err := newColumnBuilders(name, rr.Schema(), opts)
 	if err != nil {
 		return nil, err
 	}
-	r := &TableReader{name: name, rr: rr, opts: opts, all: all}
+	r := &TableReader{name: name, rr: rr, opts: opts, all: all, schema: rr.Schema(),
+		batches: make(chan arrow.RecordBatch, readAhead), stop: make(chan struct{})}
 	for _, c := range columns {
 		for i, b := range all {
 			if b.name == c {
@@ -50,11 +63,49 @@ func NewTableReader(name string, rr array.RecordReader, columns []string, opts R
 			}
 		}
 	}
+	go r.readAhead()
 	return r, nil
 }
 
+// readAhead reads the input's batches into r.batches until the input ends
+// or Close is called; Err is read only once r.batches is closed.
+func (r *TableReader) readAhead() {
+	defer close(r.batches)
+	for r.rr.Next() {
+		rec := r.rr.RecordBatch()
+		rec.Retain()
+		select {
+		case r.batches <- rec:
+		case <-r.stop:
+			rec.Release()
+			return
+		}
+	}
+}
+
+// Close stops reading and releases the batches held; the caller then
+// releases the array.RecordReader. It may be called more than once.
+func (r *TableReader) Close() {
+	if !r.stopped {
+		r.stopped = true
+		close(r.stop)
+	}
+	for rec := range r.batches {
+		rec.Release()
+	}
+	r.releaseBatch()
+	r.done, r.table = true, nil
+}
+
+func (r *TableReader) releaseBatch() {
+	if r.rec != nil {
+		r.rec.Release()
+		r.rec = nil
+	}
+}
+
 // Schema is the input's schema: every column, chosen or not.
-func (r *TableReader) Schema() *arrow.Schema { return r.rr.Schema() }
+func (r *TableReader) Schema() *arrow.Schema { return r.schema }
 
 // Next reads the next batch and reports whether there is one. After it
 // returns false, Err says why.
@@ -62,11 +113,13 @@ func (r *TableReader) Next() bool {
 	if r.err != nil || r.done {
 		return false
 	}
-	if !r.rr.Next() {
+	r.releaseBatch()
+	rec, ok := <-r.batches
+	if !ok {
 		r.finish()
 		return false
 	}
-	rec := r.rr.RecordBatch()
+	r.rec = rec
 	n := int(rec.NumRows())
 	t := &tabular.Table{Name: r.name, Rows: n, Columns: make([]*tabular.Column, len(r.builders)), RowNumbers: make([]int, n), ColumnNumbers: make([]int, len(r.builders))}
 	for k, i := range r.index {
@@ -132,7 +185,7 @@ func (r *TableReader) Table() *tabular.Table { return r.table }
 // RecordBatch returns the current batch as the input holds it, every
 // column, for columns passed through unchanged. It is valid until the next
 // call to Next.
-func (r *TableReader) RecordBatch() arrow.RecordBatch { return r.rr.RecordBatch() }
+func (r *TableReader) RecordBatch() arrow.RecordBatch { return r.rec }
 
 // Rows is the number of rows read so far.
 func (r *TableReader) Rows() int { return r.rows }

@@ -30,6 +30,7 @@ func readBatches(t *testing.T, text string, columns []string, opts ingest.ReadOp
 	if err != nil {
 		return nil, err
 	}
+	defer tr.Close()
 	var joined *tabular.Table
 	for tr.Next() {
 		b := tr.Table()
@@ -170,5 +171,31 @@ func TestTableReaderErrors(t *testing.T) {
 	}
 	if len(warnings) != 1 || !strings.Contains(warnings[0], `row 2, column 1 (x): 2 cells (first "1e-400")`) {
 		t.Fatalf("warnings %q, want one for 2 cells from row 2", warnings)
+	}
+}
+
+// Closing a reader in the middle of its input stops its reading ahead and
+// releases every batch it held.
+func TestTableReaderCloseEarly(t *testing.T) {
+	mem := memory.NewCheckedAllocator(memory.NewGoAllocator())
+	defer mem.AssertSize(t, 0)
+	text := "x\n" + strings.Repeat("1\n", 1000)
+	opts := ingest.ReadOptions{Allocator: mem, BatchRows: 10, Expected: map[string]tabular.Kind{"x": tabular.Numeric}}
+	rr, err := ingest.NewRecordReader("data.csv", strings.NewReader(text), opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rr.Release()
+	tr, err := ingest.NewTableReader("data.csv", rr, []string{"x"}, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !tr.Next() || tr.Table().Rows != 10 || tr.RecordBatch().NumRows() != 10 {
+		t.Fatal("no first batch of 10 rows")
+	}
+	tr.Close()
+	tr.Close()
+	if tr.Next() {
+		t.Fatal("a batch after Close")
 	}
 }

@@ -433,6 +433,7 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		}
 		x, err := parseNumber(v)
 		switch {
+		case err == nil:
 		case errors.Is(err, errNotNumber) && declared:
 			return nil, b.fail(b.base+i+1, fmt.Errorf("%w in a column %s numeric; fix the cell, or leave it empty or write NA if it is missing", err, reason))
 		case errors.Is(err, errNotNumber):
@@ -524,9 +525,13 @@ func (b *columnBuilder) numberCount() int {
 // floats ("0x1p-2") and digit separators ("1_000"), which in a table are
 // far more likely codes than numbers.
 func readFloat(v string) (float64, error) {
-	v = strings.TrimSpace(v)
-	if strings.ContainsAny(v, "xX_") {
-		return 0, strconv.ErrSyntax
+	if v != "" && (v[0] <= ' ' || v[len(v)-1] <= ' ' || v[0] >= utf8.RuneSelf || v[len(v)-1] >= utf8.RuneSelf) {
+		v = strings.TrimSpace(v)
+	}
+	for i := 0; i < len(v); i++ {
+		if v[i]|0x20 == 'x' || v[i] == '_' {
+			return 0, strconv.ErrSyntax
+		}
 	}
 	return strconv.ParseFloat(v, 64)
 }

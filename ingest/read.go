@@ -585,10 +585,19 @@ type csvGuard struct {
 	line      int  // 1-based line of the current byte
 	cellLine  int  // line where the current cell began
 	column    int  // 1-based column of the current cell
+
+	stops       [256]bool // bytes outside quotes that step must see
+	quotedStops [256]bool // bytes inside quotes that step must see
+	stepEvery   bool      // step every byte, with no runs (for tests)
 }
 
 func newCSVGuard(r io.Reader, delim rune) *csvGuard {
-	return &csvGuard{r: r, delim: utf8.AppendRune(nil, delim), cellStart: true, line: 1, cellLine: 1, column: 1}
+	g := &csvGuard{r: r, delim: utf8.AppendRune(nil, delim), cellStart: true, line: 1, cellLine: 1, column: 1}
+	for _, c := range []byte{'"', '\r', '\n', g.delim[0]} {
+		g.stops[c] = true
+	}
+	g.quotedStops['"'], g.quotedStops['\n'] = true, true
+	return g
 }
 
 // csvCapError is a CSV cell or record over its cap.
@@ -618,8 +627,21 @@ func (g *csvGuard) Read(p []byte) (int, error) {
 	}
 	n, err := g.r.Read(p)
 	w := 0 // bytes kept; a dropped LF and CR conversions happen in place
-	for i := range n {
+	for i := 0; i < n; i++ {
 		c := p[i]
+		if run := g.plainRun(p[i:n]); run > 0 {
+			// Bytes that only lengthen the cell, taken at once.
+			w += copy(p[w:], p[i:i+run])
+			g.cell += run
+			g.record += run
+			g.cellStart = g.cellStart && g.quoted
+			if capErr := g.check(); capErr != nil {
+				g.err = capErr
+				return w, capErr
+			}
+			i += run - 1
+			continue
+		}
 		if g.afterCR {
 			g.afterCR = false
 			if c == '\n' {
@@ -640,6 +662,26 @@ func (g *csvGuard) Read(p []byte) (int, error) {
 		g.err = err
 	}
 	return w, err
+}
+
+// plainRun returns how many bytes at the start of p step would only count
+// as part of the current cell: outside quotes, bytes other than a quote,
+// a line break and the delimiter's first byte, with no delimiter half
+// matched; inside quotes (no closing quote seen), bytes other than a quote
+// and a line feed. It is 0 when the next byte needs step.
+func (g *csvGuard) plainRun(p []byte) int {
+	if g.afterCR || g.matched > 0 || (g.quoted && g.quoteSeen) || g.stepEvery {
+		return 0
+	}
+	stops := &g.stops
+	if g.quoted {
+		stops = &g.quotedStops
+	}
+	n := 0
+	for n < len(p) && !stops[p[n]] {
+		n++
+	}
+	return n
 }
 
 // step follows one byte of the text.

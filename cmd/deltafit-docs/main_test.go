@@ -5,6 +5,8 @@ import (
 	"os/exec"
 	"path/filepath"
 	"testing"
+
+	"deltafit/internal/fixture"
 )
 
 // The committed man pages are what the commands give now: run
@@ -13,6 +15,7 @@ func TestManPagesCurrent(t *testing.T) {
 	if _, err := exec.LookPath("go"); err != nil {
 		t.Skip("the go command is not available here")
 	}
+	fixture.ReadModuleFiles(t, filepath.Join("..", ".."))
 	spec, err := readSpec("")
 	if err != nil {
 		t.Fatal(err)

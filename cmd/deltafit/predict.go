@@ -4,9 +4,11 @@ import (
 	"context"
 	"io"
 
+	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/spf13/cobra"
 
 	"deltafit/export"
+	"deltafit/fit/model"
 	"deltafit/ingest/encode"
 )
 
@@ -81,16 +83,16 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 	if err := checkOutputPath("-o", opts.out.output, path, opts.model); err != nil {
 		return err
 	}
-	model, readOpts, err := opts.readModel(path, stdin)
+	m, readOpts, err := opts.readModel(path, stdin)
 	if err != nil {
 		return err
 	}
 	normalized := opts.scores == scoresNormalized
-	if normalized && !model.ScoresNonNegative() {
-		return usagef("--scores normalized: the model's %s units can give negative scores, which cannot be divided by their sum; use --scores raw", model.Network.Unit)
+	if normalized && !m.ScoresNonNegative() {
+		return usagef("--scores normalized: the model's %s units can give negative scores, which cannot be divided by their sum; use --scores raw", m.Network.Unit)
 	}
 	var columns []string
-	for _, f := range model.Plan.Features {
+	for _, f := range m.Plan.Features {
 		columns = append(columns, f.Column)
 	}
 	in, err := openStream(path, stdin, stderr, progressTo(stdout, stderr, opts.out.toFile()), readOpts, columns, false)
@@ -103,13 +105,14 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 		return err
 	}
 	var stats encode.Stats
-	err = opts.out.write(stdout, func(w io.Writer, flush func() error) error {
-		pw, err := export.NewPredictionWriter(w, format, path, model.Labels, keepFields)
-		if err != nil {
-			return usagef("--keep: %v", err)
-		}
+	// Scoring the next batch overlaps writing the last.
+	type batch struct {
+		p    *model.Predictions
+		keep []arrow.Array
+	}
+	score := func(emit func(batch) bool) error {
 		for in.Next() {
-			p, batchStats, err := model.PredictTable(in.Table())
+			p, batchStats, err := m.PredictTable(in.Table())
 			if err != nil {
 				return err
 			}
@@ -122,15 +125,30 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 					return err
 				}
 			}
-			if err := pw.Write(p, in.keepArrays(keepIndex)); err != nil {
-				return err
+			keep := in.keepArrays(keepIndex)
+			for _, a := range keep {
+				a.Retain()
 			}
-			if err := flush(); err != nil {
-				return err
+			if !emit(batch{p, keep}) {
+				return nil
 			}
 		}
 		in.count.progress.finish()
-		if err := in.Err(); err != nil {
+		return in.Err()
+	}
+	err = opts.out.write(stdout, func(w io.Writer, flush func() error) error {
+		pw, err := export.NewPredictionWriter(w, format, path, m.Labels, keepFields)
+		if err != nil {
+			return usagef("--keep: %v", err)
+		}
+		write := func(b batch) error {
+			defer releaseArrays(b.keep)
+			if err := pw.Write(b.p, b.keep); err != nil {
+				return err
+			}
+			return flush()
+		}
+		if err := overlap(score, write, func(b batch) { releaseArrays(b.keep) }); err != nil {
 			return err
 		}
 		return pw.Close()

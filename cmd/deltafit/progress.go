@@ -49,6 +49,9 @@ func newProgress(stderr io.Writer, max int64, description string, bytes bool) *p
 		progressbar.OptionSetWidth(30),
 		progressbar.OptionThrottle(progressThrottle),
 		progressbar.OptionClearOnFinish(),
+		// No spinner goroutine for bars of unknown length: it reads the
+		// bar's state without its lock.
+		progressbar.OptionSetSpinnerChangeInterval(0),
 	)}
 }
 
@@ -75,6 +78,7 @@ func (p *progress) finish() {
 // read progressMinBytes: out of the file's size, or as a count for a
 // pipe.
 type readProgress struct {
+	mu     sync.Mutex // reading goes on in a goroutine of its own
 	stderr io.Writer
 	size   int64 // -1 when unknown
 	bar    *progress
@@ -96,7 +100,12 @@ func newReadProgress(stderr io.Writer, f *os.File) *readProgress {
 
 // read is told the bytes read so far.
 func (r *readProgress) read(n int64) {
-	if r == nil || r.done {
+	if r == nil {
+		return
+	}
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	if r.done {
 		return
 	}
 	if !r.shown && n >= progressMinBytes {
@@ -108,7 +117,12 @@ func (r *readProgress) read(n int64) {
 
 // finish clears the bar, before anything else is written to stderr.
 func (r *readProgress) finish() {
-	if r != nil && !r.done {
+	if r == nil {
+		return
+	}
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	if !r.done {
 		r.done = true
 		r.bar.finish()
 	}

@@ -71,6 +71,9 @@ func openStream(path string, stdin io.Reader, stderr, progressOut io.Writer, opt
 
 func (s *dataStream) close() {
 	s.count.progress.finish()
+	if s.TableReader != nil {
+		s.TableReader.Close()
+	}
 	if s.rr != nil {
 		s.rr.Release()
 	}
@@ -111,6 +114,13 @@ func keepFields(path string, schema *arrow.Schema, keep []string) ([]arrow.Field
 		fields[i], index[i] = f, found[0]
 	}
 	return fields, index, nil
+}
+
+// releaseArrays releases arrays retained to outlive their batch.
+func releaseArrays(arrays []arrow.Array) {
+	for _, a := range arrays {
+		a.Release()
+	}
 }
 
 // keepArrays returns the current batch's kept columns.
@@ -209,4 +219,42 @@ func (o *tableOutput) write(stdout io.Writer, write func(w io.Writer, flush func
 		return err
 	}
 	return bw.Flush()
+}
+
+// overlap runs produce in a goroutine of its own and consume, in the
+// caller's, on each item produce hands to emit, in order: making the next
+// item overlaps using the last. An error of consume stops produce (emit
+// then returns false, and produce should return); the first error of
+// consume, else produce's, is returned. Items that consume never gets are
+// given to release.
+func overlap[T any](produce func(emit func(T) bool) error, consume func(T) error, release func(T)) error {
+	items := make(chan T, 2)
+	stop := make(chan struct{})
+	var produceErr error
+	go func() {
+		defer close(items)
+		produceErr = produce(func(item T) bool {
+			select {
+			case items <- item:
+				return true
+			case <-stop:
+				release(item)
+				return false
+			}
+		})
+	}()
+	var consumeErr error
+	for item := range items {
+		if consumeErr != nil {
+			release(item)
+			continue
+		}
+		if consumeErr = consume(item); consumeErr != nil {
+			close(stop)
+		}
+	}
+	if consumeErr != nil {
+		return consumeErr
+	}
+	return produceErr
 }

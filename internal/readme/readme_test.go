@@ -10,6 +10,8 @@ import (
 	"regexp"
 	"strings"
 	"testing"
+
+	"deltafit/internal/fixture"
 )
 
 // shBlocks returns the fenced ```sh blocks of a Markdown text, in order.
@@ -39,6 +41,7 @@ func TestREADMEExamples(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	fixture.ReadModuleFiles(t, root)
 	text, err := os.ReadFile(filepath.Join(root, "README.md"))
 	if err != nil {
 		t.Fatal(err)
