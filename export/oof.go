@@ -1,49 +1,56 @@
 package export
 
 import (
-	"encoding/csv"
-	"fmt"
 	"io"
-	"strconv"
+
+	"github.com/apache/arrow-go/v18/arrow"
 
 	"deltafit/evaluate"
 	"deltafit/ingest/tabular"
 )
 
-// WriteOutOfFoldCSV writes the out-of-fold predictions of a
-// cross-validation of d: a header, then one line per row per repeat, fold
-// after fold: the row's 1-based number in the input, the repeat and the
-// fold that held it out (from 1), its true class, the predicted class and
-// one score column per class, written as predict writes them.
-func WriteOutOfFoldCSV(w io.Writer, d *tabular.Dataset, oof []evaluate.FoldPredictions) error {
-	cw := csv.NewWriter(w)
-	header := []string{"row", "repeat", "fold", "class", "predicted"}
+// WriteOutOfFold writes the out-of-fold predictions of a cross-validation
+// of d in a TableFormat, one row per row of d per repeat, fold after fold:
+// row (the row's 1-based number in the input), repeat and fold (that held
+// it out, from 1), class (its true class), predicted and score_LABEL for
+// each class, the scores as predict writes them. file names the data in
+// errors.
+func WriteOutOfFold(w io.Writer, format TableFormat, file string, d *tabular.Dataset, oof []evaluate.FoldPredictions) error {
+	fields := append([]column(nil),
+		intColumn{name: "row"}, intColumn{name: "repeat"}, intColumn{name: "fold"},
+		labelColumn{name: "class"}, labelColumn{name: "predicted"})
 	for _, l := range d.Labels {
-		header = append(header, "score_"+l)
+		fields = append(fields, floatColumn{name: "score_" + l})
 	}
-	if err := cw.Write(header); err != nil {
-		return fmt.Errorf("export: %w", err)
+	schema := make([]arrow.Field, len(fields))
+	for i, c := range fields {
+		schema[i] = c.field()
 	}
-	record := make([]string, len(header))
+	tw, err := newTableWriter(w, format, schema)
+	if err != nil {
+		return err
+	}
 	for _, f := range oof {
-		repeat, fold := strconv.Itoa(f.Repeat+1), strconv.Itoa(f.Fold+1)
-		for n, class := range f.Predicted {
-			row := f.Rows[n]
-			record[0] = strconv.Itoa(d.Table.RowNumber(row))
-			record[1], record[2] = repeat, fold
-			record[3] = d.Labels[d.Classes[row]]
-			record[4] = d.Labels[class]
-			for j, s := range f.ScoresOf(n) {
-				record[5+j] = strconv.FormatFloat(s, 'g', 6, 64)
-			}
-			if err := cw.Write(record); err != nil {
-				return fmt.Errorf("export: %w", err)
-			}
+		truth := make([]int, len(f.Rows))
+		for n, row := range f.Rows {
+			truth[n] = d.Classes[row]
+		}
+		repeat, fold := f.Repeat+1, f.Fold+1
+		cols := []column{
+			intColumn{name: "row", values: func(n int) int { return d.Table.RowNumber(f.Rows[n]) }},
+			intColumn{name: "repeat", values: func(int) int { return repeat }},
+			intColumn{name: "fold", values: func(int) int { return fold }},
+			labelColumn{name: "class", labels: d.Labels, index: truth},
+			labelColumn{name: "predicted", labels: d.Labels, index: f.Predicted},
+		}
+		for j, l := range d.Labels {
+			cols = append(cols, floatColumn{name: "score_" + l, values: f.Scores, offset: j, stride: len(d.Labels)})
+		}
+		if err := tw.write(cols, f.Len(), func(col, n int, err error) error {
+			return &tabular.DataError{File: file, Row: d.Table.RowNumber(f.Rows[n]), Name: cols[col].field().Name, Err: err}
+		}); err != nil {
+			return err
 		}
 	}
-	cw.Flush()
-	if err := cw.Error(); err != nil {
-		return fmt.Errorf("export: %w", err)
-	}
-	return nil
+	return tw.close()
 }

@@ -213,7 +213,7 @@ beside the majority-class and Hebbian baselines.
 	cmd.Flags().IntVar(&opts.repeats, "repeats", 1, "repeat the cross-validation this many times, each with its own folds (needs --folds)")
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	opts.outputs.add(cmd.Flags())
-	cmd.Flags().StringVar(&opts.oof, "oof", "", "with --folds: write each row's out-of-fold prediction (fold, true and predicted class, scores) to this CSV file")
+	cmd.Flags().StringVar(&opts.oof, "oof", "", "with --folds: write each row's out-of-fold prediction (fold, true and predicted class, scores) to this file: .csv, .jsonl, .arrow or .parquet")
 	return cmd
 }
 
@@ -238,7 +238,7 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if err := opts.outputs.check(path); err != nil {
 		return err
 	}
-	if err := oofFormat(opts.oof, opts.folds, path); err != nil {
+	if _, err := oofFormat(opts.oof, opts.folds, path); err != nil {
 		return err
 	}
 	learner, d, sha, err := loadDataset(opts.input, opts.learn, &opts.missing, path, stdin, stderr)

@@ -81,21 +81,26 @@ func (o *reportOutputs) writeReportFile(write func(io.Writer, export.Format) err
 	})
 }
 
-// oofFormat checks --oof: it needs folds, and a file ending in .csv.
-func oofFormat(path string, folds int, data string) error {
+// oofFormat checks --oof, which needs folds, and returns the table format
+// its extension names: .csv, .jsonl, .arrow or .arrows (an Arrow IPC
+// stream), .parquet.
+func oofFormat(path string, folds int, data string) (export.TableFormat, error) {
 	if path == "" {
-		return nil
+		return "", nil
 	}
 	if folds == 0 {
-		return usagef("--oof %s: the out-of-fold predictions need cross-validation; add --folds K", path)
+		return "", usagef("--oof %s: the out-of-fold predictions need cross-validation; add --folds K", path)
 	}
 	if path == "-" {
-		return usagef("--oof -: the report goes to stdout; give the predictions a file name")
+		return "", usagef("--oof -: the report goes to stdout; give the predictions a file name")
 	}
-	if ext := strings.ToLower(filepath.Ext(path)); ext != ".csv" {
-		return usagef("--oof %s: out-of-fold predictions are written as CSV; give a file ending in .csv", path)
+	format, ok := map[string]export.TableFormat{
+		".csv": export.TableCSV, ".jsonl": export.TableJSONL, ".arrow": export.TableArrow, ".arrows": export.TableArrow, ".parquet": export.TableParquet,
+	}[strings.ToLower(filepath.Ext(path))]
+	if !ok {
+		return "", usagef("--oof %s: the format is read from the extension: .csv, .jsonl, .arrow (or .arrows) or .parquet", path)
 	}
-	return checkOutput(path, data)
+	return format, checkOutput(path, data)
 }
 
 // studyFigures adds to a fit report its settings and, with folds, the
@@ -148,8 +153,12 @@ type evaluateInputs struct {
 // file.
 func writeStudyOutputs(r *export.FitReport, s *evaluate.Study, d *tabular.Dataset, opts fitOptions) error {
 	if opts.oof != "" {
+		format, err := oofFormat(opts.oof, opts.folds, "")
+		if err != nil {
+			return err
+		}
 		if err := export.WriteFile(opts.oof, func(w io.Writer) error {
-			return export.WriteOutOfFoldCSV(w, d, s.Main.OutOfFold)
+			return export.WriteOutOfFold(w, format, d.Table.Name, d, s.Main.OutOfFold)
 		}); err != nil {
 			return err
 		}
