@@ -107,7 +107,9 @@ func TraceFit(ctx context.Context, d *tabular.Dataset, l Learner, steps, top int
 	if opts.Workers <= 0 {
 		opts.Workers = 1
 	}
-	res, err := fit.TrainContext(run, patterns, d.Classes, len(d.Labels), opts)
+	// The store Train trains on: the packed one for 0/1 patterns, which
+	// trains to the same bits.
+	res, err := fit.TrainContext(run, fit.Compact(patterns), d.Classes, len(d.Labels), opts)
 	switch {
 	case err == nil:
 		if len(t.Updates) < steps {
