@@ -41,29 +41,3 @@ func ScoreTableRows(c *model.Classifier, t *tabular.Table) (*Scoring, encode.Sta
 	}
 	return &Scoring{Predictions: p, Truth: truth, Confusion: confusion}, stats, nil
 }
-
-// NewScoring is an empty scoring of classifier c's classes, for the
-// batches of a stream to be appended to.
-func NewScoring(c *model.Classifier) *Scoring {
-	return &Scoring{
-		Predictions: &model.Predictions{Labels: c.Labels, RowNumbers: []int{}},
-		Confusion:   NewConfusion(c.Labels),
-	}
-}
-
-// Append adds the scoring of the next batch of rows. Row numbers stay the
-// input's; the batch's 0-based rows are renumbered after the rows before.
-func (s *Scoring) Append(batch *Scoring) error {
-	if err := s.Confusion.Merge(batch.Confusion); err != nil {
-		return err
-	}
-	p, b := s.Predictions, batch.Predictions
-	for n := range b.Len() {
-		p.RowNumbers = append(p.RowNumbers, b.RowNumber(n))
-		p.Rows = append(p.Rows, len(p.Rows))
-	}
-	p.Predicted = append(p.Predicted, b.Predicted...)
-	p.Scores = append(p.Scores, b.Scores...)
-	s.Truth = append(s.Truth, batch.Truth...)
-	return nil
-}

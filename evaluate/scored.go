@@ -7,6 +7,7 @@ import (
 	"math"
 	"slices"
 
+	"deltafit/fit"
 	"deltafit/fit/model"
 )
 
@@ -70,28 +71,45 @@ type ROCPoint struct {
 	TPR       float64 `json:"tpr"`       // true positives / positive rows
 }
 
-// positiveScores returns each row's score for class positive and whether
-// the row is of that class, checking that both sides occur.
-func (s Scored) positiveScores(positive int) ([]float64, []bool, int, error) {
-	if err := s.check(); err != nil {
-		return nil, nil, 0, err
-	}
-	if positive < 0 || positive >= s.Classes {
-		return nil, nil, 0, fmt.Errorf("evaluate: %w: positive class %d outside [0, %d)", ErrClassOutOfRange, positive, s.Classes)
-	}
-	scores := make([]float64, len(s.Truth))
-	member := make([]bool, len(s.Truth))
-	positives := 0
+// ranked are rows' scores for a positive class and whether each row is of
+// that class: what the ROC curve and its area read.
+type ranked struct {
+	scores    []float64
+	member    []bool
+	positives int
+}
+
+// add appends the rows of s, scored for class positive.
+func (r *ranked) add(s Scored, positive int) {
 	for i, c := range s.Truth {
-		scores[i] = s.Scores[i*s.Classes+positive]
-		if member[i] = c == positive; member[i] {
-			positives++
+		r.scores = append(r.scores, s.Scores[i*s.Classes+positive])
+		r.member = append(r.member, c == positive)
+		if c == positive {
+			r.positives++
 		}
 	}
-	if positives == 0 || positives == len(s.Truth) {
-		return nil, nil, 0, ErrOneClass
+}
+
+// check returns an error wrapping ErrOneClass unless both sides occur.
+func (r *ranked) check() error {
+	if r.positives == 0 || r.positives == len(r.scores) {
+		return ErrOneClass
 	}
-	return scores, member, positives, nil
+	return nil
+}
+
+// positiveScores returns each row's score for class positive and whether
+// the row is of that class, checking that both sides occur.
+func (s Scored) positiveScores(positive int) (*ranked, error) {
+	if err := s.check(); err != nil {
+		return nil, err
+	}
+	if positive < 0 || positive >= s.Classes {
+		return nil, fmt.Errorf("evaluate: %w: positive class %d outside [0, %d)", ErrClassOutOfRange, positive, s.Classes)
+	}
+	r := &ranked{scores: make([]float64, 0, len(s.Truth)), member: make([]bool, 0, len(s.Truth))}
+	r.add(s, positive)
+	return r, r.check()
 }
 
 // AUC returns the area under the ROC curve of the positive class's scores
@@ -104,10 +122,15 @@ func (s Scored) positiveScores(positive int) ([]float64, []bool, int, error) {
 // their mean rank). It returns an error wrapping ErrOneClass when the rows
 // are all positive or all not.
 func (s Scored) AUC(positive int) (float64, error) {
-	scores, member, positives, err := s.positiveScores(positive)
+	r, err := s.positiveScores(positive)
 	if err != nil {
 		return 0, err
 	}
+	return r.auc(), nil
+}
+
+func (r *ranked) auc() float64 {
+	scores, member := r.scores, r.member
 	order := make([]int, len(scores))
 	for i := range order {
 		order[i] = i
@@ -127,8 +150,8 @@ func (s Scored) AUC(positive int) (float64, error) {
 		}
 		lo = hi
 	}
-	np, nn := float64(positives), float64(len(scores)-positives)
-	return (rankSum - np*(np+1)/2) / (np * nn), nil
+	np, nn := float64(r.positives), float64(len(scores)-r.positives)
+	return (rankSum - np*(np+1)/2) / (np * nn)
 }
 
 // ROC returns the ROC curve of the positive class's scores: one point per
@@ -136,16 +159,21 @@ func (s Scored) AUC(positive int) (float64, error) {
 // (0, 0) at threshold +Inf; the last point is (1, 1). Rows of one score
 // move the curve together, so the trapezoid area under it is AUC.
 func (s Scored) ROC(positive int) ([]ROCPoint, error) {
-	scores, member, positives, err := s.positiveScores(positive)
+	r, err := s.positiveScores(positive)
 	if err != nil {
 		return nil, err
 	}
+	return r.roc(), nil
+}
+
+func (r *ranked) roc() []ROCPoint {
+	scores, member := r.scores, r.member
 	order := make([]int, len(scores))
 	for i := range order {
 		order[i] = i
 	}
 	slices.SortStableFunc(order, func(a, b int) int { return cmp.Compare(scores[b], scores[a]) })
-	np, nn := float64(positives), float64(len(scores)-positives)
+	np, nn := float64(r.positives), float64(len(scores)-r.positives)
 	points := []ROCPoint{{Threshold: math.Inf(1)}}
 	tp, fp := 0, 0
 	for lo := 0; lo < len(order); {
@@ -161,7 +189,7 @@ func (s Scored) ROC(positive int) ([]ROCPoint, error) {
 		points = append(points, ROCPoint{Threshold: scores[order[lo]], FPR: float64(fp) / nn, TPR: float64(tp) / np})
 		lo = hi
 	}
-	return points, nil
+	return points
 }
 
 // probabilityFloor keeps a log loss finite when a unit's output is exactly
@@ -199,19 +227,8 @@ func (s Scored) probabilitiesTo(dst []float64, i int) ([]float64, error) {
 // follows with a logistic unit. Scores outside [0, 1] are an error: only
 // logistic units give probabilities. It is 0 for no rows.
 func (s Scored) LogLoss() (float64, error) {
-	if err := s.check(); err != nil {
-		return 0, err
-	}
-	p := make([]float64, s.Classes)
-	sum := 0.0
-	for i, c := range s.Truth {
-		var err error
-		if p, err = s.probabilitiesTo(p, i); err != nil {
-			return 0, err
-		}
-		sum -= math.Log(min(max(p[c], probabilityFloor), 1-probabilityFloor))
-	}
-	return ratio(sum, float64(len(s.Truth))), nil
+	logLoss, _, err := s.sums()
+	return ratio(logLoss, float64(len(s.Truth))), err
 }
 
 // Brier returns Brier's (1950) score: the mean over rows of the squared
@@ -220,23 +237,121 @@ func (s Scored) LogLoss() (float64, error) {
 // the mean of (y − o)² over the positive class's probability y. Scores
 // outside [0, 1] are an error. It is 0 for no rows.
 func (s Scored) Brier() (float64, error) {
+	_, brier, err := s.sums()
+	return ratio(brier, float64(len(s.Truth))), err
+}
+
+// sums returns the sums over the rows of the log loss and the Brier score.
+func (s Scored) sums() (logLoss, brier float64, err error) {
 	if err := s.check(); err != nil {
-		return 0, err
+		return 0, 0, err
 	}
 	p := make([]float64, s.Classes)
-	sum := 0.0
 	for i, c := range s.Truth {
-		var err error
 		if p, err = s.probabilitiesTo(p, i); err != nil {
-			return 0, err
+			return 0, 0, err
 		}
+		logLoss -= math.Log(min(max(p[c], probabilityFloor), 1-probabilityFloor))
 		for k, v := range p {
 			o := 0.0
 			if k == c {
 				o = 1
 			}
-			sum += (v - o) * (v - o)
+			brier += (v - o) * (v - o)
 		}
 	}
-	return ratio(sum, float64(len(s.Truth))), nil
+	return logLoss, brier, nil
+}
+
+// ScoreTally gathers the figures read from scores batch after batch,
+// without keeping the batches: the sums of the log loss and the Brier
+// score over the rows, and for a positive class each row's score for it
+// and whether the row is of it, which the ROC curve needs (nine bytes a
+// row).
+type ScoreTally struct {
+	classes  int
+	positive int      // -1: no ROC curve
+	unit     fit.Unit // the log loss and Brier score need logistic units
+	rows     int
+	logLoss  float64
+	brier    float64
+	ranked   ranked
+}
+
+// NewScoreTally returns an empty tally of rows scored for the given number
+// of classes by units of the given kind, keeping the scores of class
+// positive for the ROC curve (-1 for none).
+func NewScoreTally(classes, positive int, unit fit.Unit) *ScoreTally {
+	return &ScoreTally{classes: classes, positive: positive, unit: unit}
+}
+
+// Add adds the rows of s, which must have the tally's number of classes.
+func (t *ScoreTally) Add(s Scored) error {
+	if s.Classes != t.classes {
+		return fmt.Errorf("%w: scores of %d classes for a tally of %d", ErrLengthMismatch, s.Classes, t.classes)
+	}
+	if err := s.check(); err != nil {
+		return err
+	}
+	if t.unit == fit.Logistic {
+		logLoss, brier, err := s.sums()
+		if err != nil {
+			return err
+		}
+		t.logLoss += logLoss
+		t.brier += brier
+	}
+	if t.positive >= 0 {
+		if t.positive >= t.classes {
+			return fmt.Errorf("evaluate: %w: positive class %d outside [0, %d)", ErrClassOutOfRange, t.positive, t.classes)
+		}
+		t.ranked.add(s, t.positive)
+	}
+	t.rows += len(s.Truth)
+	return nil
+}
+
+// Rows returns the number of rows added.
+func (t *ScoreTally) Rows() int { return t.rows }
+
+// Unit returns the kind of output unit the scores come from.
+func (t *ScoreTally) Unit() fit.Unit { return t.unit }
+
+// Positive returns the class whose scores the ROC curve ranks, -1 for none.
+func (t *ScoreTally) Positive() int { return t.positive }
+
+// LogLoss returns the mean log loss of the rows (Scored.LogLoss), and
+// false for units that do not give probabilities.
+func (t *ScoreTally) LogLoss() (float64, bool) {
+	return ratio(t.logLoss, float64(t.rows)), t.unit == fit.Logistic
+}
+
+// Brier returns the rows' Brier score (Scored.Brier), and false for units
+// that do not give probabilities.
+func (t *ScoreTally) Brier() (float64, bool) {
+	return ratio(t.brier, float64(t.rows)), t.unit == fit.Logistic
+}
+
+// ROC returns the ROC curve of the positive class over every row added
+// (Scored.ROC), an error wrapping ErrOneClass when the rows hold only one
+// side, or nil without a positive class.
+func (t *ScoreTally) ROC() ([]ROCPoint, error) {
+	if t.positive < 0 {
+		return nil, nil
+	}
+	if err := t.ranked.check(); err != nil {
+		return nil, err
+	}
+	return t.ranked.roc(), nil
+}
+
+// AUC returns the area under ROC (Scored.AUC).
+func (t *ScoreTally) AUC() (float64, error) {
+	if t.positive < 0 {
+		return 0, errors.New("evaluate: no positive class: the ROC area needs one")
+	}
+	if err := t.ranked.check(); err != nil {
+		return 0, err
+	}
+	return t.ranked.auc(), nil
 }

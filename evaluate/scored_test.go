@@ -4,7 +4,10 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"reflect"
 	"testing"
+
+	"deltafit/fit"
 )
 
 // twoClass builds the scores (1−y, y) of a one-unit network for outputs y.
@@ -193,5 +196,70 @@ func TestLogLossEdges(t *testing.T) {
 	bad := Scored{Classes: 2, Truth: []int{0}, Scores: []float64{0.5}}
 	if _, err := bad.LogLoss(); !errors.Is(err, ErrLengthMismatch) {
 		t.Errorf("one score for two classes: error %v, want ErrLengthMismatch", err)
+	}
+}
+
+// A tally fed in batches gives the figures of all the rows at once: the
+// same ROC curve and area, the same log loss and Brier score up to the
+// round-off of summing in another grouping.
+func TestScoreTallyInBatches(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 0))
+	all := Scored{Classes: 2}
+	tally := NewScoreTally(2, 1, fit.Logistic)
+	for range 7 {
+		batch := Scored{Classes: 2}
+		for range 1 + rng.IntN(40) {
+			y := float64(rng.IntN(20)) / 19
+			batch.Truth = append(batch.Truth, rng.IntN(2))
+			batch.Scores = append(batch.Scores, 1-y, y)
+		}
+		if err := tally.Add(batch); err != nil {
+			t.Fatal(err)
+		}
+		if err := all.Append(batch); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if tally.Rows() != len(all.Truth) {
+		t.Fatalf("tally of %d rows, want %d", tally.Rows(), len(all.Truth))
+	}
+	wantAUC, err := all.AUC(1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	gotAUC, err := tally.AUC()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if gotAUC != wantAUC {
+		t.Errorf("tally AUC %v, all rows %v", gotAUC, wantAUC)
+	}
+	wantROC, _ := all.ROC(1)
+	gotROC, _ := tally.ROC()
+	if !reflect.DeepEqual(gotROC, wantROC) {
+		t.Error("the tally's ROC curve differs from that of all the rows")
+	}
+	wantLoss, _ := all.LogLoss()
+	wantBrier, _ := all.Brier()
+	gotLoss, ok := tally.LogLoss()
+	gotBrier, _ := tally.Brier()
+	if !ok {
+		t.Fatal("logistic units give no log loss")
+	}
+	near(t, "log loss", gotLoss, wantLoss, 1e-12) // sums of a few hundred logs, grouped otherwise
+	near(t, "Brier", gotBrier, wantBrier, 1e-12)
+
+	linear := NewScoreTally(2, -1, fit.Linear)
+	if err := linear.Add(Scored{Classes: 2, Truth: []int{0}, Scores: []float64{3, -1}}); err != nil {
+		t.Fatalf("linear scores outside [0, 1]: %v", err)
+	}
+	if _, ok := linear.LogLoss(); ok {
+		t.Error("linear units give a log loss")
+	}
+	if roc, err := linear.ROC(); roc != nil || err != nil {
+		t.Errorf("a tally without a positive class gives a ROC curve %v, %v", roc, err)
+	}
+	if err := linear.Add(Scored{Classes: 3, Truth: []int{0}, Scores: []float64{0, 0, 1}}); !errors.Is(err, ErrLengthMismatch) {
+		t.Errorf("three classes into a tally of two: %v", err)
 	}
 }

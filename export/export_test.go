@@ -170,7 +170,7 @@ func TestFitReportGolden(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if report.CV.Scores, err = NewScoreFigures(scored, d.Labels, fit.Logistic, -1); err != nil {
+	if report.CV.Scores, err = ScoreFiguresOf(scored, d.Labels, fit.Logistic, -1); err != nil {
 		t.Fatal(err)
 	}
 	for _, format := range []Format{Text, Markdown, JSON} {
@@ -234,7 +234,7 @@ func TestEvaluationReportGolden(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if report.Scores, err = NewScoreFigures(scored, m.Labels, m.Network.Unit, positive); err != nil {
+	if report.Scores, err = ScoreFiguresOf(scored, m.Labels, m.Network.Unit, positive); err != nil {
 		t.Fatal(err)
 	}
 	settings := ModelSettings(m, "model.json", "iris.csv", "test", confusion.Total())

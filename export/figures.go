@@ -59,43 +59,45 @@ func PositiveClass(labels []string, positive string) (int, error) {
 	return k, nil
 }
 
-// NewScoreFigures reads the figures off scored rows: for two classes the
-// ROC curve and its area for class positive (an index of labels, -1 for
-// none); for logistic units the log loss and Brier score. A figure that
-// cannot be read (one class only among the rows, linear units) is left out
-// with a note; errors are only about inconsistent input.
-func NewScoreFigures(s evaluate.Scored, labels []string, unit fit.Unit, positive int) (*ScoreFigures, error) {
+// NewScoreFigures reads the figures off a tally of scored rows: for a
+// positive class the ROC curve and its area, for logistic units the log
+// loss and Brier score. A figure that cannot be read (one class only among
+// the rows, linear units) is left out with a note.
+func NewScoreFigures(t *evaluate.ScoreTally, labels []string) (*ScoreFigures, error) {
 	f := &ScoreFigures{}
-	if positive >= 0 {
+	if positive := t.Positive(); positive >= 0 {
 		f.Positive = labels[positive]
-		roc, err := s.ROC(positive)
+		roc, err := t.ROC()
 		switch {
 		case errors.Is(err, evaluate.ErrOneClass):
 			f.Notes = append(f.Notes, "no ROC curve: the rows hold only one of the two classes")
 		case err != nil:
 			return nil, err
 		default:
-			auc, err := s.AUC(positive)
+			auc, err := t.AUC()
 			if err != nil {
 				return nil, err
 			}
 			f.AUC, f.ROC = &auc, roc
 		}
 	}
-	if unit != fit.Logistic {
-		f.Notes = append(f.Notes, "no log loss or Brier score: "+unit.String()+" units do not give probabilities")
+	loss, ok := t.LogLoss()
+	if !ok {
+		f.Notes = append(f.Notes, "no log loss or Brier score: "+t.Unit().String()+" units do not give probabilities")
 		return f, nil
 	}
-	loss, err := s.LogLoss()
-	if err != nil {
-		return nil, err
-	}
-	brier, err := s.Brier()
-	if err != nil {
-		return nil, err
-	}
+	brier, _ := t.Brier()
 	f.LogLoss, f.Brier = &loss, &brier
 	return f, nil
+}
+
+// ScoreFiguresOf reads the figures off scored rows (NewScoreFigures).
+func ScoreFiguresOf(s evaluate.Scored, labels []string, unit fit.Unit, positive int) (*ScoreFigures, error) {
+	t := evaluate.NewScoreTally(len(labels), positive, unit)
+	if err := t.Add(s); err != nil {
+		return nil, err
+	}
+	return NewScoreFigures(t, labels)
 }
 
 // agreement prints what the confusion table says beyond the per-class

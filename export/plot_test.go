@@ -32,7 +32,7 @@ func irisStudy(t *testing.T) (*FitReport, *evaluate.Study) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if r.CV.Scores, err = NewScoreFigures(scored, d.Labels, fit.Logistic, -1); err != nil {
+	if r.CV.Scores, err = ScoreFiguresOf(scored, d.Labels, fit.Logistic, -1); err != nil {
 		t.Fatal(err)
 	}
 	return r, s

@@ -29,8 +29,9 @@ model and compares the predictions with the model's target column, which
 DATA must have. It prints the confusion table (rows: true class, columns:
 predicted), accuracy, balanced accuracy, macro F1, Cohen's kappa, and by
 class its true and predicted rows, recall, precision and F1. DATA is read
-and scored one record batch at a time; the scores of every row are kept
-(one number per class) for the figures that need them all, such as ROC AUC.
+and scored one record batch at a time: memory does not grow with the
+number of rows, but for the ROC curve of two classes, which keeps each
+row's score for the positive class (nine bytes a row).
 ` + exitStatusHelp,
 		Example: `  deltafit evaluate --model model.json holdout.csv
   deltafit evaluate --model model.json holdout.csv --format json | jq .accuracy`,
@@ -77,7 +78,8 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err != nil {
 		return err
 	}
-	scoring := evaluate.NewScoring(&model.Classifier)
+	confusion := evaluate.NewConfusion(model.Labels)
+	scores := evaluate.NewScoreTally(len(model.Labels), positive, model.Network.Unit)
 	var stats encode.Stats
 	var noTarget rowsLeftOut
 	for in.Next() {
@@ -93,7 +95,14 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 			return err
 		}
 		stats.Merge(batchStats)
-		if err := scoring.Append(scored); err != nil {
+		if err := confusion.Merge(scored.Confusion); err != nil {
+			return err
+		}
+		rows, err := evaluate.ScoredOf(scored.Predictions, scored.Truth)
+		if err == nil {
+			err = scores.Add(rows)
+		}
+		if err != nil {
 			return err
 		}
 	}
@@ -107,7 +116,7 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	}
 	name := tabular.DisplayName(path)
 	noTarget.warn(stderr, name+": %d %s with no target value left out (first at row %d): a row needs its class to be learned from or scored")
-	if scoring.Confusion.Total() == 0 {
+	if confusion.Total() == 0 {
 		return &tabular.DataError{File: path, Name: model.Target, Err: fmt.Errorf("no row has a target value to score against")}
 	}
 	if sha == model.Data.SHA256 {
@@ -116,10 +125,9 @@ func runEvaluate(_ context.Context, opts evaluateOptions, path string, stdin io.
 	if err := opts.checkEncoding(stderr, path, stats); err != nil {
 		return err
 	}
-	confusion := scoring.Confusion
 	data := export.NewScoredDataSummary(path, sha, &model.Classifier, confusion)
 	report := export.NewEvaluationReport(data, opts.model, confusion)
-	if err := evaluationFigures(report, model, &evaluateInputs{modelPath: opts.model, dataPath: path, sha: sha, scored: scoring}, positive); err != nil {
+	if err := evaluationFigures(report, model, &evaluateInputs{modelPath: opts.model, dataPath: path, sha: sha, scores: scores}, positive); err != nil {
 		return err
 	}
 	if err := writeEvaluationOutputs(report, model, opts.outputs); err != nil {

@@ -122,7 +122,7 @@ func studyFigures(r *export.FitReport, s *evaluate.Study, d *tabular.Dataset, le
 	if err != nil {
 		return err
 	}
-	r.CV.Scores, err = export.NewScoreFigures(scored, d.Labels, s.Fitted.Result.Network.Unit, positive)
+	r.CV.Scores, err = export.ScoreFiguresOf(scored, d.Labels, s.Fitted.Result.Network.Unit, positive)
 	return err
 }
 
@@ -134,18 +134,15 @@ func evaluationFigures(r *export.EvaluationReport, m *export.Model, p *evaluateI
 		settings.Positive = m.Labels[positive]
 	}
 	r.Settings = &settings
-	scored, err := evaluate.ScoredOf(p.scored.Predictions, p.scored.Truth)
-	if err != nil {
-		return err
-	}
-	r.Scores, err = export.NewScoreFigures(scored, m.Labels, m.Network.Unit, positive)
+	var err error
+	r.Scores, err = export.NewScoreFigures(p.scores, m.Labels)
 	return err
 }
 
 // evaluateInputs are what evaluate scored: the files, and the scored rows.
 type evaluateInputs struct {
 	modelPath, dataPath, sha string
-	scored                   *evaluate.Scoring
+	scores                   *evaluate.ScoreTally
 }
 
 // writeStudyOutputs writes what fit writes besides the model and the
