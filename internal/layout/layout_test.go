@@ -1,7 +1,10 @@
 package layout_test
 
 import (
+	"os"
 	"os/exec"
+	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -46,5 +49,38 @@ func TestImportDirection(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// moduleVersions lists the module of every package ./... builds and tests,
+// with its version, as go list gives them with GOWORK set to work.
+func moduleVersions(t *testing.T, work string) string {
+	t.Helper()
+	cmd := exec.Command("go", "list", "-deps", "-test", "-f", "{{with .Module}}{{.Path}} {{.Version}}{{end}}", "./...")
+	cmd.Dir = "../.."
+	cmd.Env = append(os.Environ(), "GOWORK="+work)
+	out, err := cmd.Output()
+	if err != nil {
+		t.Skipf("go list is not available here: %v", err)
+	}
+	lines := strings.Fields(strings.ReplaceAll(string(out), " ", "@"))
+	slices.Sort(lines)
+	return strings.Join(slices.Compact(lines), "\n")
+}
+
+// The workspace that joins the Beam module must not change what the root
+// module builds: its packages get the same module versions with go.work
+// as without (DEVELOPERS.md, Testing).
+func TestWorkspaceKeepsVersions(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs go list twice")
+	}
+	work, err := filepath.Abs("../../go.work")
+	if err != nil {
+		t.Fatal(err)
+	}
+	with, without := moduleVersions(t, work), moduleVersions(t, "off")
+	if with != without {
+		t.Errorf("module versions differ with go.work:\n%s\nwithout:\n%s", with, without)
 	}
 }
