@@ -83,12 +83,12 @@ func AutoRate(p Store, opts Options) (rate float64, s Spectrum, err error) {
 	if s, err = spectrum(context.Background(), p); err != nil {
 		return 0, Spectrum{}, err
 	}
-	return autoRate(s, opts, p.Len()), s, nil
+	return s.AutoRate(opts, p.Len()), s, nil
 }
 
-// autoRate is the automatic rate of a run with opts on n patterns of
-// spectrum s (see AutoRate).
-func autoRate(s Spectrum, opts Options, n int) float64 {
+// AutoRate returns the automatic rate of a run with opts on n patterns of
+// spectrum s (see the function AutoRate).
+func (s Spectrum) AutoRate(opts Options, n int) float64 {
 	if isOnePass(opts.Rule) {
 		return 1 / float64(max(n, 1))
 	}

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"errors"
 	"fmt"
 
 	"gonum.org/v1/gonum/mat"
@@ -17,6 +18,7 @@ type Correlation struct {
 	Inputs int
 	Rows   int
 	Sum    []float64 // (Inputs+1)², row-major; both triangles are kept
+	RowMax float64   // the largest ‖x̃‖² of the rows
 }
 
 // NewCorrelation returns an empty sum for patterns of inputs values.
@@ -31,9 +33,14 @@ func (c *Correlation) AddRows(p Store, rows []int) {
 		panic(fmt.Sprintf("fit: Correlation of %d inputs given patterns of %d", c.Inputs, p.Inputs()))
 	}
 	d := c.Inputs + 1
-	buf := make([]float64, c.Inputs)
+	buf, row := make([]float64, c.Inputs), make([]float64, d)
 	add := func(i int) {
 		x := p.RowTo(buf, i)
+		// ‖x̃‖² summed as the trainer's spectrum sums it, so that RowMax
+		// is the same to the last bit.
+		copy(row, x)
+		row[c.Inputs] = 1
+		c.RowMax = max(c.RowMax, dot(row, row))
 		for a := range d {
 			xa := 1.0
 			if a < c.Inputs {
@@ -63,7 +70,23 @@ func (c *Correlation) Merge(other *Correlation) error {
 	}
 	c.Rows += other.Rows
 	axpy(1, other.Sum, c.Sum)
+	c.RowMax = max(c.RowMax, other.RowMax)
 	return nil
+}
+
+// Spectrum returns the sizes that bound a stable learning rate on the
+// rows summed: λmax of R, its trace and the largest ‖x̃‖². Bias-only
+// patterns (no inputs) have R = [1].
+func (c *Correlation) Spectrum() (Spectrum, error) {
+	if c.Inputs == 0 {
+		return Spectrum{LambdaMax: 1, TraceR: 1, RowMax: 1}, nil
+	}
+	var eigen mat.EigenSym
+	if !eigen.Factorize(c.Mean(), false) {
+		return Spectrum{}, errors.New("fit: eigendecomposition of the input correlation matrix failed")
+	}
+	values := eigen.Values(nil) // ascending
+	return Spectrum{LambdaMax: values[len(values)-1], TraceR: c.Trace(), RowMax: c.RowMax}, nil
 }
 
 // Mean returns R = Sum / Rows.

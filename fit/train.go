@@ -362,7 +362,7 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 	auto := opts.Rate == 0
 	rate := opts.Rate
 	if auto {
-		rate = autoRate(spec, opts, len(t.train.classes))
+		rate = spec.AutoRate(opts, len(t.train.classes))
 	}
 	bound, boundName := spec.Bound(opts)
 	t.result.Rate, t.result.RateAuto = rate, auto
@@ -606,16 +606,22 @@ func (t *trainer) run(ctx context.Context) (*Result, error) {
 	return &t.result, nil
 }
 
+// TrackBest sets the best losses of s, the epoch after history, from its
+// own losses and the last epoch's best ones. The Plateau stop rule reads
+// them, so a trainer other than Train calls it before asking StopReason.
+func (s *EpochStats) TrackBest(history []EpochStats) {
+	s.BestLoss, s.BestHoldoutLoss = s.Loss, s.Holdout.Loss
+	if n := len(history); n > 0 {
+		s.BestLoss = min(s.BestLoss, history[n-1].BestLoss)
+		s.BestHoldoutLoss = min(s.BestHoldoutLoss, history[n-1].BestHoldoutLoss)
+	}
+}
+
 // track fills in the best losses of stats, the last epoch's, and with a
 // holdout keeps the weights of an epoch with a lower held-out loss than
 // any before.
 func (t *trainer) track(stats *EpochStats) {
-	stats.BestLoss, stats.BestHoldoutLoss = stats.Loss, stats.Holdout.Loss
-	if n := len(t.result.History); n > 0 {
-		last := t.result.History[n-1]
-		stats.BestLoss = min(stats.BestLoss, last.BestLoss)
-		stats.BestHoldoutLoss = min(stats.BestHoldoutLoss, last.BestHoldoutLoss)
-	}
+	stats.TrackBest(t.result.History)
 	if t.holdout != nil && (t.result.Epoch == 0 || stats.Holdout.Loss < t.result.History[t.result.Epoch-1].Holdout.Loss) {
 		t.best.copyFrom(t.kept())
 		t.result.Epoch, t.bestAverageFrom = stats.Epoch, t.averageFrom
@@ -654,16 +660,24 @@ func (t *trainer) stopReason() (reason, rule string) {
 	if t.onePass {
 		return StopOnePass, "one pass of a rule whose update ignores the weights"
 	}
-	for _, c := range t.opts.Stop {
-		if reason := c.Converged(t.result.History); reason != "" {
+	return StopReason(t.opts.Stop, t.result.History, t.opts.Epochs)
+}
+
+// StopReason returns why a run whose measured epochs are history ends
+// there, or "" when it goes on: the first of rules that says so, then the
+// limit of epochs. rule describes the rule that stopped it. Trainers other
+// than Train (a pipeline run) ask it after each epoch, as Train does.
+func StopReason(rules []Converger, history []EpochStats, epochs int) (reason, rule string) {
+	for _, c := range rules {
+		if reason := c.Converged(history); reason != "" {
 			if s, ok := c.(fmt.Stringer); ok {
 				return reason, s.String()
 			}
 			return reason, reason
 		}
 	}
-	if len(t.result.History) == t.opts.Epochs {
-		return StopEpochs, fmt.Sprintf("the limit of %d epochs", t.opts.Epochs)
+	if len(history) == epochs {
+		return StopEpochs, fmt.Sprintf("the limit of %d epochs", epochs)
 	}
 	return "", ""
 }

@@ -14,6 +14,7 @@ import (
 
 	"github.com/apache/beam/sdks/v2/go/pkg/beam"
 	"github.com/apache/beam/sdks/v2/go/pkg/beam/io/filesystem"
+	beamlog "github.com/apache/beam/sdks/v2/go/pkg/beam/log"
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
@@ -50,6 +51,10 @@ type fitOptions struct {
 	blockRows int
 	work      string
 	runner    string
+	logLevel  string
+
+	tolerance         float64
+	stopWhenSeparated bool
 }
 
 // beamFlags are Beam's pipeline options offered by fit and cv, passed
@@ -95,6 +100,8 @@ passes over the data.
 	fs.StringVar(&opts.rule, "rule", "delta", "learning rule: delta, or hebbian (one pass, linear outputs)")
 	fs.StringVar(&opts.unit, "unit", "logistic", "output unit: logistic or linear")
 	fs.IntVar(&opts.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
+	fs.Float64Var(&opts.tolerance, "tolerance", fit.DefaultTolerance, "stop once the best loss has fallen by at most this fraction of itself over the last 10 epochs")
+	fs.BoolVar(&opts.stopWhenSeparated, "stop-when-separated", false, "stop at the first epoch with no training errors; by default training goes on, as deltafit fit's")
 	fs.StringVar(&opts.rate, "rate", "auto", `learning rate: a positive number, or "auto" to derive it from the inputs`)
 	fs.Uint64Var(&opts.seed, "seed", 1, "seed of the folds and of the averaged mode's row orders")
 	fs.StringVar(&opts.delimiter, "delimiter", ",", `CSV field delimiter: one character, or "tab"`)
@@ -114,6 +121,7 @@ passes over the data.
 	fs.IntVar(&opts.blockRows, "block-rows", pipeline.DefaultBlockRows, "rows per block, the unit of work and of every partial sum")
 	fs.StringVar(&opts.work, "work", "", "directory for the run's result, readable by this program and writable by the workers (default: a temporary directory, with the prism runner only)")
 	fs.StringVar(&opts.runner, "runner", "prism", "Beam runner: prism (in-process), flink, spark or universal (a portable job endpoint)")
+	fs.StringVar(&opts.logLevel, "log", "warn", "the Beam runner's log on stderr: info, warn or error")
 	for _, name := range beamFlags {
 		if f := flag.CommandLine.Lookup(name); f != nil {
 			fs.AddFlag(pflag.PFlagFromGoFlag(f))
@@ -151,6 +159,10 @@ func runFit(ctx context.Context, opts fitOptions, cv bool, args []string, stdout
 		defer os.RemoveAll(dir)
 		c.Work = dir
 	}
+	if !slices.Contains([]string{"info", "warn", "error"}, opts.logLevel) {
+		return usagef("--log %q: give info, warn or error", opts.logLevel)
+	}
+	beamlog.LogLevel = opts.logLevel // read by beam.Init
 	beam.Init()
 	s, err := pipeline.Run(ctx, c, opts.runner)
 	if err != nil {
@@ -192,6 +204,9 @@ func (o fitOptions) config() (*pipeline.Config, error) {
 	if o.missing != "indicator" && o.missing != "drop" {
 		return nil, usagef(`--missing %q: give "indicator" or "drop"`, o.missing)
 	}
+	if !(o.tolerance >= 0) {
+		return nil, usagef("--tolerance %v: give 0 or a positive fraction", o.tolerance)
+	}
 	if o.blockRows < 1 {
 		return nil, usagef("--block-rows %d: give at least 1", o.blockRows)
 	}
@@ -200,6 +215,7 @@ func (o fitOptions) config() (*pipeline.Config, error) {
 		DropMissing: o.missing == "drop", Numeric: o.numeric, Categorical: o.categorical,
 		Rule: o.rule, Unit: o.unit, Epochs: o.epochs, Seed: o.seed, Mode: o.mode,
 		Folds: o.folds, BlockRows: o.blockRows, Work: o.work,
+		Tolerance: o.tolerance, KeepGoing: !o.stopWhenSeparated,
 	}
 	switch d := o.delimiter; {
 	case d == "tab" || d == `\t`:

@@ -236,5 +236,8 @@ func (c *Config) FitOptions() (fit.Options, error) {
 		Rule: rule, Unit: unit, Epochs: c.epochs(), Rate: c.Rate,
 		Tolerance: c.Tolerance, KeepGoing: c.KeepGoing, Seed: c.Seed,
 		Batch: c.mode() == ModeBatch, Stop: c.stopRules(),
+		// Parameter mixing averages the blocks' last iterates, not one
+		// run's iterates over its last epochs.
+		LastIterate: c.mode() == ModeAveraged,
 	}, nil
 }

@@ -14,6 +14,7 @@ import (
 	"github.com/apache/beam/sdks/v2/go/pkg/beam/testing/ptest"
 
 	"deltafit/evaluate"
+	"deltafit/export"
 	"deltafit/fit"
 	"deltafit/ingest"
 	"deltafit/ingest/encode"
@@ -435,5 +436,46 @@ func TestAveragedBlocks(t *testing.T) {
 		if !reflect.DeepEqual(first, m.Network) {
 			t.Errorf("a second run gave other weights")
 		}
+	}
+}
+
+// A batch fit with the default stop rules, run past the stop rules'
+// patience, ends where fit.Train with the same options ends (Iris, Fisher
+// 1936): the same stop, the same number of epochs, the weights within
+// 1e-9 relative, and the model's training summary that of the last epoch.
+func TestDefaultStopAsLocal(t *testing.T) {
+	path := filepath.Join(testdata, "iris.csv")
+	c := runConfig(t, path, "species")
+	c.Mode, c.Epochs = ModeBatch, 50
+	s := run(t, c)
+	d := localDataset(t, path, "species", c)
+	values, _ := s.Plans[0].EncodeTo(nil, d.Features, nil)
+	opts, err := c.FitOptions()
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := fit.Train(fit.Patterns{Width: s.Plans[0].Width(), Values: values}, d.Classes, len(d.Labels), opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := s.Fitted().Result
+	if got.Stop != res.Stop || got.StopRule != res.StopRule || len(got.History) != len(res.History) || got.Epoch != res.Epoch {
+		t.Fatalf("stop %q (%s) at epoch %d of %d, local %q (%s) at %d of %d",
+			got.Stop, got.StopRule, got.Epoch, len(got.History), res.Stop, res.StopRule, res.Epoch, len(res.History))
+	}
+	worst := 0.0
+	for j, w := range res.Network.Weights {
+		for i := range w {
+			worst = math.Max(worst, relDiff(got.Network.Weights[j][i], w[i]))
+		}
+		worst = math.Max(worst, relDiff(got.Network.Biases[j], res.Network.Biases[j]))
+	}
+	if worst > 1e-9 {
+		t.Errorf("weights differ from the local batch fit by %.3g relative, want at most 1e-9", worst)
+	}
+	training := s.Model(export.Options{}).Training
+	last := res.History[len(res.History)-1]
+	if training.Errors != last.Errors || relDiff(training.Loss, last.Loss) > 1e-9 {
+		t.Errorf("model file: %d errors, loss %v; the last epoch's are %d, %v", training.Errors, training.Loss, last.Errors, last.Loss)
 	}
 }

@@ -20,7 +20,8 @@ func (s *State) Fitted() *evaluate.Fitted {
 		Classifier: &model.Classifier{Target: s.Target, Labels: s.Labels, Plan: s.Plans[0], Network: m.Network},
 		Result: &fit.Result{
 			Network: m.Network, Rate: m.Rate, RateAuto: m.RateAuto,
-			LambdaMax: m.LambdaMax, TraceR: m.TraceR, History: m.History, Stop: m.Stop,
+			LambdaMax: m.LambdaMax, TraceR: m.TraceR, History: m.History,
+			Stop: m.Stop, StopRule: m.StopRule, Epoch: len(m.History),
 		},
 	}
 }

@@ -76,6 +76,7 @@ type ModelState struct {
 	Updates   int              `json:"updates"` // epochs applied
 	History   []fit.EpochStats `json:"history"`
 	Stop      string           `json:"stop"`
+	StopRule  string           `json:"stop_rule,omitempty"`
 	Done      bool             `json:"done"`
 	// Trace holds the weights and biases after each epoch, with
 	// Config.Trace.

@@ -8,7 +8,6 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/floats"
-	"gonum.org/v1/gonum/mat"
 
 	"deltafit/fit"
 	"deltafit/ingest/tabular"
@@ -315,7 +314,12 @@ func (m *ModelState) step(c *Config, t *epochPartial) error {
 			return m.diverged(m.Updates)
 		}
 		m.History = append(m.History, stats)
-		if m.Stop = m.stopReason(c); m.Stop != "" {
+		// The best losses are not kept between passes (the state's JSON
+		// leaves them out, as the model file does): track them again.
+		for i := range m.History {
+			m.History[i].TrackBest(m.History[:i])
+		}
+		if m.Stop, m.StopRule = m.stopReason(c); m.Stop != "" {
 			m.Done = true
 			return nil
 		}
@@ -375,50 +379,40 @@ func (m *ModelState) apply(step float64, u *fit.UpdateSums) {
 }
 
 // stopReason returns why training ends after the last epoch of the
-// history, or "", as fit.Train asks: a one-pass rule after its pass, then
-// the stop rules in order, then the epoch limit.
-func (m *ModelState) stopReason(c *Config) string {
+// history, or "", and the rule that ended it, as fit.Train asks: a
+// one-pass rule after its pass, then fit.StopReason.
+func (m *ModelState) stopReason(c *Config) (reason, rule string) {
 	if m.onePass(c) {
-		return fit.StopOnePass
+		return fit.StopOnePass, "one pass of a rule whose update ignores the weights"
 	}
-	for _, rule := range c.stopRules() {
-		if reason := rule.Converged(m.History); reason != "" {
-			return reason
-		}
-	}
-	if len(m.History) >= c.epochs() {
-		return fit.StopEpochs
-	}
-	return ""
+	return fit.StopReason(c.stopRules(), m.History, c.epochs())
 }
 
 // setRate sets the learning rate, from the correlation sums when it is
-// automatic, as fit.AutoRate: batch 1/λmax, online (averaged mode)
-// 0.5/tr(R), one-pass rules 1/rows.
+// automatic, as fit.AutoRate sets it: batch 1/λmax, online (averaged
+// mode) 1/max‖x̃‖², one-pass rules 1/rows.
 func (m *ModelState) setRate(c *Config, corr *fit.Correlation) error {
 	m.RateSet = true
-	m.LambdaMax, m.TraceR = 1, 1 // bias-only patterns: R = [1]
 	if corr == nil {
 		return fmt.Errorf("pipeline: no correlation sums for the rate")
 	}
-	if corr.Inputs > 0 {
-		var eigen mat.EigenSym
-		if !eigen.Factorize(corr.Mean(), false) {
-			return fmt.Errorf("fit: eigendecomposition of the input correlation matrix failed")
-		}
-		values := eigen.Values(nil) // ascending
-		m.LambdaMax, m.TraceR = values[len(values)-1], corr.Trace()
+	spec, err := corr.Spectrum()
+	if err != nil {
+		return err
 	}
+	m.LambdaMax, m.TraceR = spec.LambdaMax, spec.TraceR
 	m.RateAuto = c.Rate == 0 || m.Kind == KindHebbian
-	switch {
-	case m.onePass(c) && m.RateAuto:
-		m.Rate = 1 / float64(m.TrainRows)
-	case !m.RateAuto:
+	if !m.RateAuto {
 		m.Rate = c.Rate
-	case c.mode() == ModeBatch:
-		m.Rate = 1 / m.LambdaMax
-	default:
-		m.Rate = 0.5 / m.TraceR
+		return nil
 	}
+	opts, err := c.FitOptions()
+	if err != nil {
+		return err
+	}
+	if m.Kind == KindHebbian {
+		opts.Rule = fit.Hebbian{}
+	}
+	m.Rate = spec.AutoRate(opts, m.TrainRows)
 	return nil
 }
