@@ -95,7 +95,7 @@ passes over the data.
 	fs := cmd.Flags()
 	fs.StringVar(&opts.target, "target", "", "name of the column holding the class (required)")
 	fs.StringSliceVar(&opts.ignore, "ignore", nil, "columns to leave out, such as ids (comma-separated)")
-	fs.StringVar(&opts.numeric, "numeric", "thermometer:8", "numeric encoding: thermometer[:K], onehot[:K], threshold[:V], zscore, minmax or hybrid[:K]")
+	fs.StringVar(&opts.numeric, "numeric", "hybrid:8", "numeric encoding: hybrid[:K] (a linear unit and thermometer units), thermometer[:K], onehot[:K], threshold[:V], zscore or minmax; auto is deltafit fit's only")
 	fs.StringVar(&opts.categorical, "categorical", "onehot:1", "categorical encoding: onehot[:MIN], values seen fewer than MIN times share the other unit")
 	fs.StringVar(&opts.rule, "rule", "delta", "learning rule: delta, or hebbian (one pass, linear outputs)")
 	fs.StringVar(&opts.unit, "unit", "logistic", "output unit: logistic or linear")

@@ -44,7 +44,7 @@ type Config struct {
 	Ignore      []string
 	DropMissing bool // leave out rows with a missing cell (--missing drop)
 
-	Numeric     string // numeric encoding, as --numeric; "" means thermometer:8
+	Numeric     string // numeric encoding, as --numeric; "" means hybrid:8
 	Categorical string // as --categorical; "" means onehot:1
 
 	Rule      string  // delta or hebbian
@@ -169,13 +169,13 @@ func (c *Config) encodeOptions() (encode.Options, error) {
 	var err error
 	numeric := c.Numeric
 	if numeric == "" {
-		numeric = "thermometer:8"
+		numeric = "hybrid:8"
 	}
 	if opts.Numeric, err = encode.ParseNumericEncoding(numeric); err != nil {
 		return opts, err
 	}
 	if opts.Numeric.Method == encode.Auto {
-		return opts, fmt.Errorf("pipeline: numeric encoding %q: the automatic choice needs a cross-validation inside each fit, which a pipeline run does not make; give the encoding (thermometer:K, onehot:K, threshold, zscore, minmax or hybrid:K)", numeric)
+		return opts, fmt.Errorf("pipeline: numeric encoding %q: the automatic choice tries each candidate on an inner split of the training rows, which a pipeline run does not make; give the encoding (hybrid:K, thermometer:K, onehot:K, threshold, zscore or minmax)", numeric)
 	}
 	categorical := c.Categorical
 	if categorical == "" {
