@@ -44,6 +44,7 @@ type options struct {
 	cvEpochs               int
 	linearity              string
 	childRSS               string // internal: measure peak RSS of a fit of this file
+	writeCSV               string // write the synthetic CSV here and stop
 	cpuProfile             string
 }
 
@@ -93,6 +94,7 @@ func main() {
 	flag.IntVar(&o.cvEpochs, "cv-epochs", 2, "epochs per fold of the timed cross-validation")
 	flag.StringVar(&o.linearity, "linearity", "", "comma-separated row counts for the linearity check (default n/10,n; 1e5,1e6 at full size)")
 	flag.StringVar(&o.childRSS, "child-rss", "", "internal: fit FILE and print the peak resident set in bytes")
+	flag.StringVar(&o.writeCSV, "write-csv", "", "write the synthetic table of -n rows as CSV to this file and stop (for fits of data larger than memory)")
 	flag.StringVar(&o.cpuProfile, "cpuprofile", "", "write a CPU profile of the run to this file")
 	flag.Parse()
 	if o.cpuProfile != "" {
@@ -121,6 +123,9 @@ func run(o options, w io.Writer) error {
 	opts := encode.Options{Numeric: enc}
 	if o.childRSS != "" {
 		return childRSS(o.childRSS, opts, w)
+	}
+	if o.writeCSV != "" {
+		return writeCSVFile(o.writeCSV, shape{Rows: o.rows, Columns: o.columns, Classes: o.classes, Seed: o.seed})
 	}
 	if o.quick {
 		if !flagSet("n") {
@@ -318,6 +323,19 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 	r.Times["rss_peak_bytes"] = float64(peak)
 	r.RSSBytesPerRow = float64(peak) / float64(o.rows)
 	return r, nil
+}
+
+// writeCSVFile writes the synthetic table of shape s to path.
+func writeCSVFile(path string, s shape) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if err := writeSyntheticCSV(f, s); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
 }
 
 // measureRSS runs this program again to read, fit and encode the file at
