@@ -184,6 +184,7 @@ type fitOptions struct {
 	format  string
 	outputs reportOutputs
 	oof     string
+	stream  streamFlags
 }
 
 func newFitCmd() *cobra.Command {
@@ -214,6 +215,7 @@ beside the majority-class and Hebbian baselines.
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	opts.outputs.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.oof, "oof", "", "with --folds: write each row's out-of-fold prediction (fold, true and predicted class, scores) to this file: .csv, .jsonl, .arrow or .parquet")
+	opts.stream.add(cmd.Flags())
 	return cmd
 }
 
@@ -241,11 +243,31 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if _, err := oofFormat(opts.oof, opts.folds, path); err != nil {
 		return err
 	}
+	if opts.stream.block < 0 {
+		return usagef("--block %d: give a number of rows, or 0 for one full shuffle", opts.stream.block)
+	}
+	if err := checkOutputPath("--cache", opts.stream.cache, path); err != nil {
+		return err
+	}
+	stream, err := opts.stream.streaming(path, stderr)
+	if err != nil {
+		return err
+	}
+	if stream {
+		if err := checkStream(&opts, path, opts.learn.given, stderr); err != nil {
+			return err
+		}
+		return runFitStream(ctx, opts, path, stdout, stderr, format)
+	}
+	if opts.stream.cache != "" {
+		return usagef("--cache keeps the pattern store of --stream; give --stream too")
+	}
 	learner, d, sha, err := loadDataset(opts.input, opts.learn, &opts.missing, path, stdin, stderr)
 	if err != nil {
 		return err
 	}
 	learner.Fit.Warn = warnOnce(stderr)
+	learner.Fit.Block = opts.stream.block
 	positive, err := opts.outputs.positiveClass(d.Labels)
 	if err != nil {
 		return err
@@ -268,8 +290,9 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	}
 	modelPath := opts.output
 	if opts.output != "" {
-		model := export.NewModel(study.Fitted,
-			opts.learn.modelOptions(opts.input.kinds), export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
+		modelOpts := opts.learn.modelOptions(opts.input.kinds)
+		modelOpts.Block = opts.stream.block
+		model := export.NewModel(study.Fitted, modelOpts, export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
 		write := func(w io.Writer) error { return export.WriteModel(w, model) }
 		if opts.output == "-" {
 			modelPath = "stdout"

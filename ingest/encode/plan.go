@@ -261,3 +261,17 @@ func (f *Feature) validate() error {
 	}
 	return m.validate(f)
 }
+
+// Binary reports whether every unit of the plan is 0 or 1 on every row:
+// no feature is encoded by zscore, minmax or hybrid, whose units take
+// other values. Patterns of a binary plan can be stored packed, one bit a
+// unit.
+func (p *Plan) Binary() bool {
+	for _, f := range p.Features {
+		switch f.Method {
+		case ZScore, MinMax, Hybrid:
+			return false
+		}
+	}
+	return true
+}

@@ -34,7 +34,7 @@ func streamPlan(t *testing.T, cols []*tabular.Column, batch, capacity int, opts 
 	for i, col := range cols {
 		summaries[i] = encode.NewStreamSummary(col.Name, col.Kind, capacity)
 		for from := 0; from < col.Len(); from += batch {
-			summaries[i].Add(batchOf(col, from, min(from+batch, col.Len())))
+			summaries[i].Add(batchOf(col, from, min(from+batch, col.Len())), nil)
 		}
 	}
 	p, err := encode.PlanFromSummaries(summaries, opts)

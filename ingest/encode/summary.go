@@ -70,18 +70,17 @@ func NewStreamSummary(column string, kind tabular.Kind, capacity int) *Summary {
 	return s
 }
 
-// Add includes every row of col, a batch of the column s summarises, as
-// Summarize would, into its Values or its Sketch. It panics if col is of
-// another kind.
-func (s *Summary) Add(col *tabular.Column) {
+// Add includes the given rows of col (0-based; nil means all), a batch of
+// the column s summarises, as Summarize would, into its Values or its
+// Sketch. It panics if col is of another kind.
+func (s *Summary) Add(col *tabular.Column, rows []int) {
 	if col.Kind != s.Kind {
 		panic(fmt.Sprintf("encode: Summary.Add of a %s column to the summary of a %s one", col.Kind, s.Kind))
 	}
 	if s.Kind == tabular.Categorical && s.Counts == nil {
 		s.Counts = map[string]int{}
 	}
-	s.Rows += col.Len()
-	for r := range col.Len() {
+	add := func(r int) {
 		switch {
 		case col.IsMissing(r):
 			s.Missing++
@@ -95,6 +94,17 @@ func (s *Summary) Add(col *tabular.Column) {
 			}
 			s.Moments.Add(col.Numbers[r])
 		}
+	}
+	if rows == nil {
+		s.Rows += col.Len()
+		for r := range col.Len() {
+			add(r)
+		}
+		return
+	}
+	s.Rows += len(rows)
+	for _, r := range rows {
+		add(r)
 	}
 }
 
