@@ -249,7 +249,7 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if err := checkOutputPath("--cache", opts.stream.cache, path); err != nil {
 		return err
 	}
-	stream, err := opts.stream.streaming(path, stderr)
+	stream, note, err := opts.stream.streaming(path)
 	if err != nil {
 		return err
 	}
@@ -257,6 +257,7 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 		if err := checkStream(&opts, path, opts.learn.given, stderr); err != nil {
 			return err
 		}
+		fmt.Fprint(stderr, note)
 		return runFitStream(ctx, opts, path, stdout, stderr, format)
 	}
 	if opts.stream.cache != "" {

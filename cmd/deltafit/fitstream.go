@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"runtime/debug"
 	"strconv"
 	"strings"
 
@@ -36,11 +37,11 @@ func (f *streamFlags) add(fs *pflag.FlagSet) {
 }
 
 // memoryPerInputByte is how many bytes of memory an in-memory fit takes
-// per byte of its input file, for the --memory switch: measured at 13 for a
-// synthetic CSV of 8 numeric columns (71 bytes a row, about 930 bytes of
-// peak memory a row with thermometer:8; README, Performance). Files of
+// per byte of its input file, for the --memory switch: measured at 11.6 for a
+// synthetic CSV of 8 numeric columns (71 bytes a row, 820 bytes of peak
+// memory a row with thermometer:8; README, Performance). Files of
 // other shapes differ; the switch is a guard, not a promise.
-const memoryPerInputByte = 13
+const memoryPerInputByte = 12
 
 // parseSize reads a size such as 512MB, 4GB, 1.5GiB or 1000000 (bytes):
 // K, M, G and T with B are powers of 1000, with iB powers of 1024.
@@ -86,38 +87,40 @@ func physicalMemory() int64 {
 	return 0
 }
 
-// formatSize writes bytes in GB or MB.
+// formatSize writes bytes in GB, MB or kB.
 func formatSize(b int64) string {
-	if b >= 1e9 {
+	switch {
+	case b >= 1e9:
 		return strconv.FormatFloat(float64(b)/1e9, 'f', 1, 64) + " GB"
+	case b >= 1e6:
+		return strconv.FormatFloat(float64(b)/1e6, 'f', 0, 64) + " MB"
 	}
-	return strconv.FormatFloat(float64(b)/1e6, 'f', 0, 64) + " MB"
+	return strconv.FormatFloat(float64(b)/1e3, 'f', 0, 64) + " kB"
 }
 
 // streaming decides whether fit streams: with --stream, or when DATA is a
-// file whose in-memory fit would need more than the memory budget, which
-// it notes on stderr.
-func (f *streamFlags) streaming(path string, stderr io.Writer) (bool, error) {
+// file whose in-memory fit would need more than the memory budget, and
+// then returns the note to print on stderr once the flags are checked.
+func (f *streamFlags) streaming(path string) (stream bool, note string, err error) {
 	budget := physicalMemory() / 2
 	if f.memory != "" {
 		var err error
 		if budget, err = parseSize(f.memory); err != nil {
-			return false, usagef("--memory: %v", err)
+			return false, "", usagef("--memory: %v", err)
 		}
 	}
 	if f.stream || path == "-" || budget <= 0 {
-		return f.stream, nil
+		return f.stream, "", nil
 	}
 	info, err := os.Stat(path)
 	if err != nil || !info.Mode().IsRegular() {
-		return false, nil // the reader reports what is wrong
+		return false, "", nil // the reader reports what is wrong
 	}
 	if need := info.Size() * memoryPerInputByte; need > budget {
-		fmt.Fprintf(stderr, "deltafit: note: %s: a fit in memory would need about %s, over the memory budget of %s (--memory): fitting as with --stream\n",
-			tabular.DisplayName(path), formatSize(need), formatSize(budget))
-		return true, nil
+		return true, fmt.Sprintf("deltafit: note: %s: a fit in memory would need about %s, over the memory budget of %s (--memory): fitting as with --stream\n",
+			tabular.DisplayName(path), formatSize(need), formatSize(budget)), nil
 	}
-	return false, nil
+	return false, "", nil
 }
 
 // streamRefusals are fit's flags a fit on data larger than memory does not
@@ -165,6 +168,13 @@ func checkStream(opts *fitOptions, path string, given func(string) bool, stderr 
 // summaries, again to encode every row into a pattern store on disk, and
 // trains from the store block by block.
 func runFitStream(ctx context.Context, opts fitOptions, path string, stdout, stderr io.Writer, format export.Format) error {
+	if os.Getenv("GOMEMLIMIT") == "" {
+		// What the stream path holds is bounded (a batch, the sketches, a
+		// few decoded blocks, a byte per row of labels); a soft limit on
+		// the heap makes the collector return the decoded blocks it
+		// drops before the heap doubles past it.
+		defer debug.SetMemoryLimit(debug.SetMemoryLimit(streamHeapLimit))
+	}
 	learner, err := opts.learn.learner()
 	if err != nil {
 		return err
@@ -341,6 +351,11 @@ func streamColumns(path string, readOpts *ingest.ReadOptions, target string, ign
 	}
 	return columns, nil
 }
+
+// streamHeapLimit is the soft heap limit of a fit on data larger than
+// memory, unless GOMEMLIMIT sets one: the garbage collector works harder
+// near it rather than let the heap grow.
+const streamHeapLimit = 256 << 20
 
 // kindRows is how many first rows a fit on data larger than memory infers
 // the column kinds from.
