@@ -5,8 +5,9 @@
 // or with -format json one object.
 //
 // The data are invented and written to a temporary directory that is
-// removed on exit. Data larger than memory (streamed stores) is not
-// measured.
+// removed on exit. stream_rss_mb runs the deltafit binary's fit --stream
+// as a child; sizes of the linearity series too large to fit in memory
+// (or from -stream-from rows) are timed on a disk pattern store.
 package main
 
 import (
@@ -45,6 +46,8 @@ type options struct {
 	linearity              string
 	childRSS               string // internal: measure peak RSS of a fit of this file
 	writeCSV               string // write the synthetic CSV here and stop
+	deltafit               string // the deltafit binary whose fit --stream is measured
+	streamFrom             int    // rows from which the linearity series trains from a disk store
 	cpuProfile             string
 }
 
@@ -59,15 +62,23 @@ type report struct {
 	// Packed says whether the patterns trained on the packed 0/1 store.
 	Packed bool `json:"packed"`
 
-	EpochVsStream   float64 `json:"epoch_vs_stream"`
-	BlasVsEpoch     float64 `json:"blas_vs_epoch"`
-	QRVsFit         float64 `json:"qr_vs_fit"`
-	FixedVsEpoch    float64 `json:"fixed_vs_epoch"`
-	IngestVsArrow   float64 `json:"ingest_vs_arrow"`
-	CVSpeedup       float64 `json:"cv_speedup"`
-	Linearity       float64 `json:"linearity"`
-	RSSBytesPerRow  float64 `json:"rss_bytes_per_row"`
-	ToleranceEpochs int     `json:"tolerance_epochs"`
+	EpochVsStream  float64 `json:"epoch_vs_stream"`
+	BlasVsEpoch    float64 `json:"blas_vs_epoch"`
+	QRVsFit        float64 `json:"qr_vs_fit"`
+	FixedVsEpoch   float64 `json:"fixed_vs_epoch"`
+	IngestVsArrow  float64 `json:"ingest_vs_arrow"`
+	CVSpeedup      float64 `json:"cv_speedup"`
+	Linearity      float64 `json:"linearity"`
+	RSSBytesPerRow float64 `json:"rss_bytes_per_row"`
+	// StreamRSSMB is the peak resident set, in MiB, of deltafit fit
+	// --stream on the largest size of the linearity series; 0 when no
+	// deltafit binary was found.
+	StreamRSSMB float64 `json:"stream_rss_mb"`
+	// StreamRows is that size, and StreamedSizes the sizes of the
+	// linearity series timed on a disk store.
+	StreamRows      int   `json:"stream_rows"`
+	StreamedSizes   []int `json:"streamed_sizes,omitempty"`
+	ToleranceEpochs int   `json:"tolerance_epochs"`
 
 	Times   map[string]float64 `json:"times"`
 	Machine machine            `json:"machine"`
@@ -95,6 +106,8 @@ func main() {
 	flag.StringVar(&o.linearity, "linearity", "", "comma-separated row counts for the linearity check (default n/10,n; 1e5,1e6 at full size)")
 	flag.StringVar(&o.childRSS, "child-rss", "", "internal: fit FILE and print the peak resident set in bytes")
 	flag.StringVar(&o.writeCSV, "write-csv", "", "write the synthetic table of -n rows as CSV to this file and stop (for fits of data larger than memory)")
+	flag.StringVar(&o.deltafit, "deltafit", "", "the deltafit binary whose fit --stream gives stream_rss_mb (default: deltafit beside this program, else on PATH)")
+	flag.IntVar(&o.streamFrom, "stream-from", 0, "rows from which the linearity series trains from a disk pattern store, block-shuffled, as fit --stream does (default: sizes whose in-memory fit would need more than half the physical memory)")
 	flag.StringVar(&o.cpuProfile, "cpuprofile", "", "write a CPU profile of the run to this file")
 	flag.Parse()
 	if o.cpuProfile != "" {
@@ -298,6 +311,16 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 	// Epoch time per row over sizes.
 	var perRow []float64
 	for _, n := range sizes {
+		if streamed(o, n) {
+			t, err := diskEpochTime(o, opts, n)
+			if err != nil {
+				return nil, err
+			}
+			sec(fmt.Sprintf("epoch_n%d_disk", n), t)
+			perRow = append(perRow, t.Seconds()/float64(n))
+			r.StreamedSizes = append(r.StreamedSizes, n)
+			continue
+		}
 		small, err := readDataset("linearity", syntheticCSV(shape{Rows: n, Columns: o.columns, Classes: o.classes, Seed: o.seed}))
 		if err != nil {
 			return nil, err
@@ -322,6 +345,22 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 	}
 	r.Times["rss_peak_bytes"] = float64(peak)
 	r.RSSBytesPerRow = float64(peak) / float64(o.rows)
+
+	// Peak RSS of fit --stream at the largest size.
+	r.StreamRows = slices.Max(sizes)
+	if bin := deltafitBinary(o.deltafit); bin != "" {
+		streamPath := filepath.Join(dir, "stream.csv")
+		if err := writeCSVFile(streamPath, shape{Rows: r.StreamRows, Columns: o.columns, Classes: o.classes, Seed: o.seed}); err != nil {
+			return nil, err
+		}
+		peak, wall, err := streamRSS(bin, streamPath, o)
+		if err != nil {
+			return nil, err
+		}
+		os.Remove(streamPath)
+		r.StreamRSSMB = float64(peak) / (1 << 20)
+		sec("fit_stream", wall)
+	}
 	return r, nil
 }
 
@@ -377,6 +416,64 @@ func childRSS(path string, opts encode.Options, w io.Writer) error {
 	return err
 }
 
+// deltafitBinary returns the deltafit binary to measure: path when given,
+// else deltafit beside this program, else on PATH; "" when there is none.
+func deltafitBinary(path string) string {
+	if path != "" {
+		return path
+	}
+	if self, err := os.Executable(); err == nil {
+		if p := filepath.Join(filepath.Dir(self), "deltafit"); fileExists(p) {
+			return p
+		}
+	}
+	if p, err := exec.LookPath("deltafit"); err == nil {
+		return p
+	}
+	return ""
+}
+
+func fileExists(path string) bool {
+	fi, err := os.Stat(path)
+	return err == nil && fi.Mode().IsRegular()
+}
+
+// streamRSS runs deltafit fit --stream on the CSV at path for two epochs
+// and returns its peak resident set (getrusage ru_maxrss of the child) in
+// bytes and its wall time.
+func streamRSS(bin, path string, o options) (int64, time.Duration, error) {
+	cmd := exec.Command(bin, "fit", path, "--target", targetColumn, "--stream", "--numeric", o.encoding,
+		"--epochs", "2", "--seed", strconv.FormatUint(o.seed, 10), "-o", os.DevNull)
+	cmd.Stdout = io.Discard
+	var stderr strings.Builder
+	cmd.Stderr = &stderr
+	start := time.Now()
+	if err := cmd.Run(); err != nil {
+		return 0, 0, fmt.Errorf("%s fit --stream: %w: %s", bin, err, stderr.String())
+	}
+	wall := time.Since(start)
+	usage, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage)
+	if !ok {
+		return 0, 0, errors.New("no resource usage of the fit --stream child")
+	}
+	return usage.Maxrss * 1024, wall, nil
+}
+
+// streamed reports whether the linearity series times size n on a disk
+// store: from -stream-from rows, or when an in-memory fit of n rows would
+// need more than half the physical memory (at 1000 bytes a row, a little
+// over what rss_bytes_per_row measures).
+func streamed(o options, n int) bool {
+	if o.streamFrom > 0 {
+		return n >= o.streamFrom
+	}
+	var info syscall.Sysinfo_t
+	if err := syscall.Sysinfo(&info); err != nil {
+		return false
+	}
+	return float64(n)*1000 > float64(info.Totalram)*float64(info.Unit)/2
+}
+
 // cpuModel returns the first model name of /proc/cpuinfo, or "unknown".
 func cpuModel() string {
 	f, err := os.Open("/proc/cpuinfo")
@@ -407,6 +504,7 @@ var targets = []struct {
 	{"cv_speedup", 1.7, false},
 	{"linearity", 0.10, true},
 	{"rss_bytes_per_row", 100, true},
+	{"stream_rss_mb", 512, true},
 }
 
 func printTable(w io.Writer, r *report) error {
@@ -424,6 +522,10 @@ func printTable(w io.Writer, r *report) error {
 	fmt.Fprintln(tw, "ratio\tmeasured\ttarget\tmet")
 	for _, t := range targets {
 		v := values[t.key].(float64)
+		if t.key == "stream_rss_mb" && v == 0 {
+			fmt.Fprintf(tw, "%s\tnot measured\t≤ %.2f\t\n", t.key, t.goal)
+			continue
+		}
 		rel, met := "≥", v >= t.goal
 		if t.atMost {
 			rel, met = "≤", v <= t.goal
@@ -440,5 +542,13 @@ func printTable(w io.Writer, r *report) error {
 		fmt.Fprintf(tw, "%s\t%.4g\t\t\n", k, r.Times[k])
 	}
 	fmt.Fprintf(tw, "fit to tolerance took %d epochs\n", r.ToleranceEpochs)
+	if r.StreamRSSMB == 0 {
+		fmt.Fprintln(tw, "stream_rss_mb not measured: no deltafit binary beside this program or on PATH (-deltafit)")
+	} else {
+		fmt.Fprintf(tw, "stream_rss_mb is of deltafit fit --stream on %d rows\n", r.StreamRows)
+	}
+	if len(r.StreamedSizes) > 0 {
+		fmt.Fprintf(tw, "linearity sizes timed on a disk store (block-shuffled): %v\n", r.StreamedSizes)
+	}
 	return tw.Flush()
 }
