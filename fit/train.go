@@ -465,10 +465,12 @@ func newTrainer(ctx context.Context, p Store, classes labels, numClasses int, op
 	if opts.Batch || onePass {
 		t.sums = newLayer(units, width)
 	} else {
-		t.order = make([]int, t.train.classes.len())
-		if opts.Block > 0 && opts.Block < len(t.order) {
-			t.order = t.order[:opts.Block]
+		// With a Block the order holds one block, not one row per pattern.
+		size := t.train.classes.len()
+		if opts.Block > 0 {
+			size = min(size, opts.Block)
 		}
+		t.order = make([]int, size)
 		t.pcg = rand.NewPCG(opts.Seed, 0)
 		t.rng = rand.New(t.pcg)
 		if !opts.LastIterate {

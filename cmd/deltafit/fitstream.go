@@ -245,10 +245,16 @@ func runFitStream(ctx context.Context, opts fitOptions, path string, stdout, std
 		storePath = f.Name()
 		f.Close()
 		defer os.Remove(storePath)
+		defer export.RemoveOnSignal(storePath)()
 	}
 	w, err := fit.CreateDiskStore(storePath, plan.Width(), len(summary.Labels), block, packed)
 	if err != nil {
 		return err
+	}
+	forget := func() {}
+	if opts.stream.cache != "" {
+		// A store cut short by a signal is removed; a whole one is kept.
+		forget = export.RemoveOnSignal(storePath)
 	}
 	in, err = openStream(path, nil, stderr, stderr, readOpts, columns, false)
 	if err != nil {
@@ -264,6 +270,7 @@ func runFitStream(ctx context.Context, opts fitOptions, path string, stdout, std
 		w.Abort()
 		return streamHint(err)
 	}
+	forget()
 
 	// Training from the store.
 	store, err := fit.OpenDiskStore(storePath, 0)
