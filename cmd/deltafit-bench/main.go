@@ -45,6 +45,7 @@ type options struct {
 	cvEpochs               int
 	linearity              string
 	childRSS               string // internal: measure peak RSS of a fit of this file
+	childExec              bool   // internal: run the arguments as a command, print its peak RSS
 	writeCSV               string // write the synthetic CSV here and stop
 	deltafit               string // the deltafit binary whose fit --stream is measured
 	streamFrom             int    // rows from which the linearity series trains from a disk store
@@ -105,6 +106,7 @@ func main() {
 	flag.IntVar(&o.cvEpochs, "cv-epochs", 2, "epochs per fold of the timed cross-validation")
 	flag.StringVar(&o.linearity, "linearity", "", "comma-separated row counts for the linearity check (default n/10,n; 1e5,1e6 at full size)")
 	flag.StringVar(&o.childRSS, "child-rss", "", "internal: fit FILE and print the peak resident set in bytes")
+	flag.BoolVar(&o.childExec, "child-exec", false, "internal: run the arguments as a command and print its peak resident set in bytes")
 	flag.StringVar(&o.writeCSV, "write-csv", "", "write the synthetic table of -n rows as CSV to this file and stop (for fits of data larger than memory)")
 	flag.StringVar(&o.deltafit, "deltafit", "", "the deltafit binary whose fit --stream gives stream_rss_mb (default: deltafit beside this program, else on PATH)")
 	flag.IntVar(&o.streamFrom, "stream-from", 0, "rows from which the linearity series trains from a disk pattern store, block-shuffled, as fit --stream does (default: sizes whose in-memory fit would need more than half the physical memory)")
@@ -136,6 +138,9 @@ func run(o options, w io.Writer) error {
 	opts := encode.Options{Numeric: enc}
 	if o.childRSS != "" {
 		return childRSS(o.childRSS, opts, w)
+	}
+	if o.childExec {
+		return childExec(flag.Args(), w)
 	}
 	if o.writeCSV != "" {
 		return writeCSVFile(o.writeCSV, shape{Rows: o.rows, Columns: o.columns, Classes: o.classes, Seed: o.seed})
@@ -384,11 +389,8 @@ func measureRSS(path string, o options) (int64, error) {
 	if err != nil {
 		return 0, err
 	}
-	out, err := exec.Command(self, "-child-rss", path, "-encoding", o.encoding, "-seed", strconv.FormatUint(o.seed, 10)).Output()
-	if err != nil {
-		return 0, fmt.Errorf("peak RSS child: %w", err)
-	}
-	return strconv.ParseInt(strings.TrimSpace(string(out)), 10, 64)
+	peak, _, err := peakRSS(self, "-child-rss", path, "-encoding", o.encoding, "-seed", strconv.FormatUint(o.seed, 10))
+	return peak, err
 }
 
 // childRSS reads the file at path, fits a plan and trains two epochs, the
@@ -439,24 +441,59 @@ func fileExists(path string) bool {
 }
 
 // streamRSS runs deltafit fit --stream on the CSV at path for two epochs
-// and returns its peak resident set (getrusage ru_maxrss of the child) in
-// bytes and its wall time.
+// and returns its peak resident set in bytes and its wall time.
 func streamRSS(bin, path string, o options) (int64, time.Duration, error) {
-	cmd := exec.Command(bin, "fit", path, "--target", targetColumn, "--stream", "--numeric", o.encoding,
+	return peakRSS(bin, "fit", path, "--target", targetColumn, "--stream", "--numeric", o.encoding,
 		"--epochs", "2", "--seed", strconv.FormatUint(o.seed, 10), "-o", os.DevNull)
-	cmd.Stdout = io.Discard
+}
+
+// peakRSS runs a command and returns its peak resident set in bytes and
+// its wall time. The command is started by a small copy of this program
+// (-child-exec), which reports the command's getrusage ru_maxrss: Linux
+// starts the ru_maxrss of a process at the peak of the one that execs it,
+// and Go starts commands from the parent's own memory, so a command
+// started straight from this program, which holds the benchmark's data,
+// would report this program's peak.
+func peakRSS(name string, args ...string) (int64, time.Duration, error) {
+	self, err := os.Executable()
+	if err != nil {
+		return 0, 0, err
+	}
+	cmd := exec.Command(self, append([]string{"-child-exec", "--", name}, args...)...)
 	var stderr strings.Builder
 	cmd.Stderr = &stderr
 	start := time.Now()
-	if err := cmd.Run(); err != nil {
-		return 0, 0, fmt.Errorf("%s fit --stream: %w: %s", bin, err, stderr.String())
+	out, err := cmd.Output()
+	if err != nil {
+		return 0, 0, fmt.Errorf("%s: %w: %s", name, err, stderr.String())
 	}
 	wall := time.Since(start)
+	fields := strings.Fields(string(out))
+	if len(fields) == 0 {
+		return 0, 0, fmt.Errorf("%s: no peak resident set reported", name)
+	}
+	peak, err := strconv.ParseInt(fields[len(fields)-1], 10, 64)
+	return peak, wall, err
+}
+
+// childExec runs args as a command, its output discarded, and prints the
+// command's peak resident set (getrusage ru_maxrss, KiB on Linux) in
+// bytes.
+func childExec(args []string, w io.Writer) error {
+	if len(args) == 0 {
+		return errors.New("-child-exec: no command")
+	}
+	cmd := exec.Command(args[0], args[1:]...)
+	cmd.Stdout, cmd.Stderr = io.Discard, os.Stderr
+	if err := cmd.Run(); err != nil {
+		return err
+	}
 	usage, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage)
 	if !ok {
-		return 0, 0, errors.New("no resource usage of the fit --stream child")
+		return errors.New("no resource usage of the command")
 	}
-	return usage.Maxrss * 1024, wall, nil
+	_, err := fmt.Fprintln(w, usage.Maxrss*1024)
+	return err
 }
 
 // streamed reports whether the linearity series times size n on a disk
