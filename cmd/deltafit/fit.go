@@ -198,6 +198,16 @@ With -o it writes the model file (atomically). With --folds K it also runs
 stratified K-fold cross-validation, fitting the encoding and the weights on
 each training fold only, and reports the pooled out-of-fold confusion table
 beside the majority-class and Hebbian baselines.
+
+With --stream, or when DATA is a file whose in-memory fit would need more
+than --memory, fit never holds more than a batch of DATA: it reads DATA
+once to fit the plan from bounded summaries (quantile cuts from a sketch,
+exact while a column's values fit it, else within the rank error the plan
+records as quantile_rank_error), again to encode every row into a pattern
+store on disk (removed afterwards unless kept with --cache), and trains
+from the store block by block, each epoch block-shuffled (--block). It
+does not yet cross-validate (--folds), hold out rows (--holdout), choose
+the encoding (--numeric auto) or read stdin.
 ` + exitStatusHelp,
 		Example: `  deltafit fit testdata/iris.csv --target species --folds 10 --seed 1
   cat runs.csv | deltafit fit - --target outcome --ignore run_id -o model.json --format json`,
