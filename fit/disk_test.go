@@ -263,3 +263,51 @@ func allIndices(n int) []int {
 	}
 	return out
 }
+
+// Any file opens with an error or reads without a panic: a bad block is
+// an error of Err, a bad label one of Classes.
+func FuzzOpenDiskStore(f *testing.F) {
+	dir := f.TempDir()
+	bits, classes := thermometerPatterns(20, 2, 3, 2)
+	for _, packed := range []bool{true, false} {
+		path := filepath.Join(dir, "seed")
+		w, err := CreateDiskStore(path, bits.Width, 2, 8, packed)
+		if err != nil {
+			f.Fatal(err)
+		}
+		for i, c := range classes {
+			if err := w.Append(bits.Row(i), c); err != nil {
+				f.Fatal(err)
+			}
+		}
+		if err := w.Close(); err != nil {
+			f.Fatal(err)
+		}
+		data, err := os.ReadFile(path)
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(data)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		path := filepath.Join(t.TempDir(), "store")
+		if err := os.WriteFile(path, data, 0o600); err != nil {
+			t.Fatal(err)
+		}
+		s, err := OpenDiskStore(path, 1)
+		if err != nil {
+			return
+		}
+		defer s.Close()
+		if s.Len() > 1<<12 || s.Inputs() > 1<<12 {
+			return // a well-formed header of a size the fuzzer cannot have written
+		}
+		s.Classes()
+		w := make([]float64, s.Inputs())
+		for i := range s.Len() {
+			s.RowTo(nil, i)
+			s.DotRow(i, w)
+			s.AxpyRow(1, i, w)
+		}
+	})
+}
