@@ -262,6 +262,24 @@ func removeTemp(name string) {
 	delete(temps.names, name)
 }
 
+// RemoveOnSignal registers a scratch file of the run, such as the pattern
+// store of a fit on data larger than memory, for RemoveTemps to remove
+// when a signal ends the run. forget unregisters it, for a file removed
+// or to be kept.
+func RemoveOnSignal(name string) (forget func()) {
+	temps.Lock()
+	defer temps.Unlock()
+	if temps.names == nil {
+		temps.names = map[string]bool{}
+	}
+	temps.names[name] = true
+	return func() {
+		temps.Lock()
+		defer temps.Unlock()
+		delete(temps.names, name)
+	}
+}
+
 // RemoveTemps removes every temporary file that WriteFile is writing, and
 // keeps further ones from being created or renamed until release is
 // called: a caller about to exit (on a signal, say) calls it and never

@@ -77,6 +77,10 @@ type Options struct {
 	Seed              uint64            `json:"seed"`
 	Ignore            []string          `json:"ignore"`
 	Kinds             map[string]string `json:"kinds"`
+	// Block is the rows per block of a block-shuffled visiting order
+	// (fit.Options.Block; fits on data larger than memory); absent for
+	// the full shuffle.
+	Block int `json:"block,omitempty"`
 }
 
 // Training summarises the fit on all rows. Errors and Loss are those of

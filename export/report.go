@@ -258,6 +258,10 @@ type PlanSummary struct {
 	// Choice says how the auto numeric encoding was chosen; absent when the
 	// encoding was given.
 	Choice *evaluate.EncodingChoice `json:"auto,omitempty"`
+	// QuantileRankError is the plan's bound on the rank error of its
+	// quantile cuts, as a fraction of the rows (encode.Plan), when they
+	// come from a sketch; absent when they are exact.
+	QuantileRankError float64 `json:"quantile_rank_error,omitempty"`
 }
 
 // ColumnPlan is the encoding of one feature column.
@@ -271,7 +275,7 @@ type ColumnPlan struct {
 
 // NewPlanSummary summarises a plan and, for an auto encoding, its choice.
 func NewPlanSummary(plan *encode.Plan, choice *evaluate.EncodingChoice) PlanSummary {
-	s := PlanSummary{Columns: make([]ColumnPlan, len(plan.Features)), Choice: choice}
+	s := PlanSummary{Columns: make([]ColumnPlan, len(plan.Features)), Choice: choice, QuantileRankError: plan.QuantileRankError}
 	for i := range plan.Features {
 		f := &plan.Features[i]
 		s.Columns[i] = ColumnPlan{Column: f.Column, Kind: f.Kind.String(), Encoding: f.Method, Units: f.Width(), Missing: f.Missing}
@@ -279,17 +283,24 @@ func NewPlanSummary(plan *encode.Plan, choice *evaluate.EncodingChoice) PlanSumm
 	return s
 }
 
+// NewFittedReport reports a fit without cross-validation on the data
+// that data describes, such as a fit on data larger than memory;
+// modelPath is where the model file was written, "" for none.
+func NewFittedReport(f *evaluate.Fitted, data DataSummary, modelPath string) *FitReport {
+	return &FitReport{
+		Data:     data,
+		Plan:     NewPlanSummary(f.Classifier.Plan, f.Encoding),
+		Training: trainingSummary(f.Result.Network, NewTraining(f.Result), data.Rows),
+		Model:    modelPath,
+		History:  f.Result.History,
+	}
+}
+
 // NewFitReport reports a study of d (whose bytes have the given sha256),
 // cross-validated with seed when it has folds; modelPath is where the model
 // file was written, "" for none.
 func NewFitReport(s *evaluate.Study, d *tabular.Dataset, sha string, seed uint64, modelPath string) *FitReport {
-	r := &FitReport{
-		Data:     NewDataSummary(d, s.Fitted.Classifier.Plan, sha),
-		Plan:     NewPlanSummary(s.Fitted.Classifier.Plan, s.Fitted.Encoding),
-		Training: trainingSummary(s.Fitted.Result.Network, NewTraining(s.Fitted.Result), d.Table.Rows),
-		Model:    modelPath,
-		History:  s.Fitted.Result.History,
-	}
+	r := NewFittedReport(s.Fitted, NewDataSummary(d, s.Fitted.Classifier.Plan, sha), modelPath)
 	if s.Main != nil {
 		r.CV = NewCVReport(seed, s.Main, s.Majority, s.Hebbian)
 	}
@@ -371,6 +382,9 @@ func (p *printer) plan(s PlanSummary) {
 		} else {
 			p.line("encoding: auto chose %s for numeric columns (%s)", c.Chosen, c.Basis)
 		}
+	}
+	if e := s.QuantileRankError; e > 0 {
+		p.line("quantile cuts: from a bounded sketch, each within %s of its exact rank", strconv.FormatFloat(100*e, 'g', 3, 64)+"% of the rows")
 	}
 	rows := make([][]string, 0, min(len(s.Columns), planColumnsShown))
 	for i, c := range s.Columns {

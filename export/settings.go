@@ -184,9 +184,9 @@ func optionRows(o Options) [][]string {
 	var rows [][]string
 	v := reflect.ValueOf(o)
 	for i := range v.NumField() {
-		name, _, _ := strings.Cut(v.Type().Field(i).Tag.Get("json"), ",")
-		if name == "" || name == "-" {
-			continue
+		name, flags, _ := strings.Cut(v.Type().Field(i).Tag.Get("json"), ",")
+		if name == "" || name == "-" || (strings.Contains(flags, "omitempty") && v.Field(i).IsZero()) {
+			continue // the model file leaves it out too
 		}
 		rows = append(rows, []string{"option " + name, optionValue(v.Field(i).Interface())})
 	}

@@ -81,27 +81,40 @@ func PackBinary(p Patterns) (*BinaryPatterns, bool) {
 		}
 	}
 	n := p.Len()
-	b := &BinaryPatterns{width: p.Width, rows: make([]binaryRow, n), active: make([]uint16, 0, ones), tail: p.Width &^ 3}
+	b := newBinaryPatterns(p.Width, n, ones)
 	for i := range n {
-		row, start := p.Row(i), len(b.active)
-		for g := range 4 {
-			for k := g; k < b.tail; k += 4 {
-				if row[k] == 1 {
+		row := p.Row(i)
+		b.appendRow(i, func(k int) bool { return row[k] == 1 })
+	}
+	return b, true
+}
+
+// newBinaryPatterns returns BinaryPatterns of rows patterns of width
+// inputs, with room for ones active inputs, for appendRow to fill.
+func newBinaryPatterns(width, rows, ones int) *BinaryPatterns {
+	return &BinaryPatterns{width: width, rows: make([]binaryRow, rows), active: make([]uint16, 0, ones), tail: width &^ 3}
+}
+
+// appendRow sets row i, which must be the next row, to the inputs k for
+// which one(k) is true, in dot's groups.
+func (b *BinaryPatterns) appendRow(i int, one func(k int) bool) {
+	start := len(b.active)
+	for g := range 4 {
+		for k := g; k < b.tail; k += 4 {
+			if one(k) {
+				b.active = append(b.active, uint16(k))
+			}
+		}
+		if g == 0 {
+			for k := b.tail; k < b.width; k++ {
+				if one(k) {
 					b.active = append(b.active, uint16(k))
 				}
 			}
-			if g == 0 {
-				for k := b.tail; k < p.Width; k++ {
-					if row[k] == 1 {
-						b.active = append(b.active, uint16(k))
-					}
-				}
-			}
-			b.rows[i].ends[g] = uint16(len(b.active) - start)
 		}
-		b.rows[i].start = start
+		b.rows[i].ends[g] = uint16(len(b.active) - start)
 	}
-	return b, true
+	b.rows[i].start = start
 }
 
 // indices returns row i's indices, the whole and its four groups.

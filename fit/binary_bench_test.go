@@ -19,7 +19,7 @@ func BenchmarkBinaryEpoch(b *testing.B) {
 			s    Store
 		}{{"dense", p}, {"packed", packed}} {
 			b.Run(fmt.Sprintf("rows=%d/inputs=%d/%s", rows, cols*7, store.name), func(b *testing.B) {
-				tr, err := newTrainer(context.Background(), store.s, labels, 3, Options{Workers: 1})
+				tr, err := newTrainer(context.Background(), store.s, labelsOf(labels), 3, Options{Workers: 1})
 				if err != nil {
 					b.Fatal(err)
 				}

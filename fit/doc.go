@@ -86,6 +86,13 @@
 // reading rows out; Compact packs patterns whenever they are all 0/1, and
 // training on them gives the same bits as on the dense rows.
 //
+// DiskStore reads a store from a file written once by DiskWriter (layout in
+// disk.go), block by block, for data larger than memory: train it with
+// Options.Block set to its BlockRows, so each online epoch visits the blocks
+// in a seeded order and the rows of each block in a seeded permutation,
+// reading each block once; TrainBytesContext takes its one-byte labels. The
+// same Block in memory gives the same bits.
+//
 // Options hold the hooks of a run (hooks.go): Stop, the rules that end
 // training early (Converger; by default ZeroErrors then Plateau), a
 // Recorder told of each epoch and, if it is an UpdateRecorder, of every

@@ -110,6 +110,17 @@ type Options struct {
 	// runtime.GOMAXPROCS(0), read once when Train starts. Results do not
 	// depend on it. A negative count is an error.
 	Workers int
+	// Block, when above 0, makes online epochs visit the patterns
+	// block-shuffled instead of in one full permutation: the patterns are
+	// cut into blocks of Block consecutive rows (the last may be
+	// shorter), each epoch visits the blocks in an order drawn from its
+	// PCG and the rows of each block in a permutation drawn next from the
+	// same PCG. A store read from disk block by block (DiskStore) then
+	// reads each block once per epoch, and the order holds Block rows,
+	// not one per pattern. 0, the default, is the full shuffle; so is a
+	// Block of at least the number of patterns, to the bit. A negative
+	// Block is an error.
+	Block int
 }
 
 // EpochStats are measured after an epoch with the weights it ends with:
@@ -183,7 +194,27 @@ func Train(p Store, classes []int, numClasses int, opts Options) (*Result, error
 // It checks ctx between epochs and every few thousand patterns within
 // one; once ctx is done it returns an error wrapping ctx.Err().
 func TrainContext(ctx context.Context, p Store, classes []int, numClasses int, opts Options) (*Result, error) {
-	t, err := newTrainer(ctx, p, classes, numClasses, opts)
+	t, err := newTrainer(ctx, p, labels{ints: classes}, numClasses, opts)
+	if err != nil {
+		return nil, err
+	}
+	return t.run(ctx)
+}
+
+// TrainBytesContext is TrainContext with the class labels held in one
+// byte each, so that the labels of more patterns than memory holds as
+// []int (a DiskStore's, DiskStore.Classes) cost one byte a row; classes
+// must be below 256. The results are those of TrainContext on the same
+// labels as []int. Options.Holdout is refused: the held-out split keeps
+// lists of rows.
+func TrainBytesContext(ctx context.Context, p Store, classes []uint8, numClasses int, opts Options) (*Result, error) {
+	if opts.Holdout > 0 {
+		return nil, errors.New("fit: a holdout is not offered with byte labels")
+	}
+	if classes == nil {
+		classes = []uint8{}
+	}
+	t, err := newTrainer(ctx, p, labels{bytes: classes}, numClasses, opts)
 	if err != nil {
 		return nil, err
 	}
@@ -199,15 +230,37 @@ const ctxRows = 4096
 type sample struct {
 	store   Store
 	kernels RowKernels // the store's fast path, or nil
-	classes []int
+	classes labels
 	// rows are the indices in the caller's store of the patterns of a
 	// view; nil when store is the caller's.
 	rows []int
 }
 
-func newSample(s Store, classes, rows []int) sample {
+func newSample(s Store, classes labels, rows []int) sample {
 	k, _ := s.(RowKernels)
 	return sample{store: s, kernels: k, classes: classes, rows: rows}
+}
+
+// labels are the class labels of the patterns: an []int, or one byte
+// each (TrainBytesContext).
+type labels struct {
+	ints  []int
+	bytes []uint8
+}
+
+func (l labels) len() int {
+	if l.bytes != nil {
+		return len(l.bytes)
+	}
+	return len(l.ints)
+}
+
+// at returns the class of pattern i.
+func (l labels) at(i int) int {
+	if l.bytes != nil {
+		return int(l.bytes[i])
+	}
+	return l.ints[i]
 }
 
 // callerRow returns the index in the caller's store of pattern i.
@@ -284,7 +337,8 @@ type trainer struct {
 	best            layer // with a holdout: the kept weights of the best epoch
 	bestAverageFrom int
 
-	order   []int  // online visiting order
+	order   []int  // online visiting order: of all patterns, or of a block
+	blocks  []int  // with Options.Block: the order of the blocks
 	touched uint64 // what touching rows ahead read (see rowToucher), unused
 	pcg     *rand.PCG
 	rng     *rand.Rand
@@ -301,11 +355,11 @@ type trainer struct {
 	chunkRows    [][]float64  // per measuring goroutine: scratch rows
 }
 
-func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opts Options) (*trainer, error) {
+func newTrainer(ctx context.Context, p Store, classes labels, numClasses int, opts Options) (*trainer, error) {
 	if numClasses < 2 {
 		return nil, fmt.Errorf("fit: %d classes, want at least 2", numClasses)
 	}
-	n := len(classes)
+	n := classes.len()
 	if n == 0 {
 		return nil, errors.New("fit: no patterns")
 	}
@@ -317,8 +371,8 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 		dense.Rows = n
 		p = dense
 	}
-	for i, c := range classes {
-		if c < 0 || c >= numClasses {
+	for i := range n {
+		if c := classes.at(i); c < 0 || c >= numClasses {
 			return nil, fmt.Errorf("fit: pattern %d has class %d, want 0 to %d", i, c, numClasses-1)
 		}
 	}
@@ -345,13 +399,13 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 
 	t := &trainer{rule: opts.Rule, opts: opts, onePass: onePass, train: newSample(p, classes, nil)}
 	if opts.Holdout > 0 {
-		trainRows, heldRows, err := holdoutSplit(classes, numClasses, opts.Holdout, opts.Seed)
+		trainRows, heldRows, err := holdoutSplit(classes.ints, numClasses, opts.Holdout, opts.Seed)
 		if err != nil {
 			return nil, err
 		}
-		t.train = newSample(Subset(p, trainRows), pick(classes, trainRows), trainRows)
+		t.train = newSample(Subset(p, trainRows), labels{ints: pick(classes.ints, trainRows)}, trainRows)
 		t.holdout = &sample{}
-		*t.holdout = newSample(Subset(p, heldRows), pick(classes, heldRows), heldRows)
+		*t.holdout = newSample(Subset(p, heldRows), labels{ints: pick(classes.ints, heldRows)}, heldRows)
 		t.result.HoldoutRows = len(heldRows)
 	}
 
@@ -362,7 +416,7 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 	auto := opts.Rate == 0
 	rate := opts.Rate
 	if auto {
-		rate = spec.AutoRate(opts, len(t.train.classes))
+		rate = spec.AutoRate(opts, t.train.classes.len())
 	}
 	bound, boundName := spec.Bound(opts)
 	t.result.Rate, t.result.RateAuto = rate, auto
@@ -379,9 +433,9 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 	t.current = newLayer(units, width)
 	t.outputs = make([]float64, units)
 	t.steps = make([]float64, units)
-	chunks := (len(t.train.classes) + measureChunk - 1) / measureChunk
+	chunks := (t.train.classes.len() + measureChunk - 1) / measureChunk
 	if t.holdout != nil {
-		chunks = max(chunks, (len(t.holdout.classes)+measureChunk-1)/measureChunk)
+		chunks = max(chunks, (t.holdout.classes.len()+measureChunk-1)/measureChunk)
 	}
 	t.chunkStats = make([]EpochStats, chunks)
 	if t.train.kernels == nil {
@@ -411,7 +465,12 @@ func newTrainer(ctx context.Context, p Store, classes []int, numClasses int, opt
 	if opts.Batch || onePass {
 		t.sums = newLayer(units, width)
 	} else {
-		t.order = make([]int, len(t.train.classes))
+		// With a Block the order holds one block, not one row per pattern.
+		size := t.train.classes.len()
+		if opts.Block > 0 {
+			size = min(size, opts.Block)
+		}
+		t.order = make([]int, size)
 		t.pcg = rand.NewPCG(opts.Seed, 0)
 		t.rng = rand.New(t.pcg)
 		if !opts.LastIterate {
@@ -513,6 +572,9 @@ func (o *Options) setDefaults() error {
 		return fmt.Errorf("fit: negative worker count %d", o.Workers)
 	case o.Workers == 0:
 		o.Workers = runtime.GOMAXPROCS(0)
+	}
+	if o.Block < 0 {
+		return fmt.Errorf("fit: negative block size %d", o.Block)
 	}
 	if o.Stop == nil {
 		if !o.KeepGoing {
@@ -713,7 +775,7 @@ func (t *trainer) epoch(ctx context.Context, epoch int) (EpochStats, error) {
 	stats := EpochStats{Epoch: epoch}
 	stats.Loss, stats.Errors = t.measure(ctx, &t.train, t.kept())
 	if t.holdout != nil {
-		stats.Holdout.Rows = len(t.holdout.classes)
+		stats.Holdout.Rows = t.holdout.classes.len()
 		stats.Holdout.Loss, stats.Holdout.Errors = t.measure(ctx, t.holdout, t.kept())
 	}
 	return stats, stopped(ctx, epoch)
@@ -726,7 +788,7 @@ func (t *trainer) epoch(ctx context.Context, epoch int) (EpochStats, error) {
 // at least the last half of the epochs run and at most the last three
 // quarters.
 func (t *trainer) averageThrough(epoch int) {
-	t.countCur += len(t.order)
+	t.countCur += t.train.classes.len()
 	if epoch&(epoch-1) == 0 {
 		t.sumPrev, t.sumCur = t.sumCur, t.sumPrev
 		t.countPrev, t.countCur = t.countCur, 0
@@ -799,17 +861,47 @@ func (s *sample) addRowTo(l layer, steps []float64, i int, x []float64, skipZero
 }
 
 // onlineEpoch updates the weights after each pattern, visiting them in an
-// order drawn from a PCG seeded by (Seed, epoch). With L2 each update
-// first shrinks the weights; when averaging, the weights after each update
-// are added to sumCur.
+// order drawn from a PCG seeded by (Seed, epoch): one permutation of all
+// of them, or with Options.Block one of the blocks and one of the rows of
+// each block in turn. With L2 each update first shrinks the weights; when
+// averaging, the weights after each update are added to sumCur.
 func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
-	t.shuffle(epoch)
+	n := t.train.classes.len()
+	t.pcg.Seed(t.opts.Seed, uint64(epoch))
+	if len(t.order) == n {
+		t.shuffle(0, n)
+		return t.trainOrder(ctx, epoch, 0)
+	}
+	blocks := (n + len(t.order) - 1) / len(t.order)
+	if cap(t.blocks) < blocks {
+		t.blocks = make([]int, blocks)
+	}
+	t.blocks = t.blocks[:blocks]
+	for b := range t.blocks {
+		t.blocks[b] = b
+	}
+	t.rng.Shuffle(blocks, func(i, j int) { t.blocks[i], t.blocks[j] = t.blocks[j], t.blocks[i] })
+	size := len(t.order)
+	defer func() { t.order = t.order[:size] }()
+	for k, b := range t.blocks {
+		t.order = t.order[:size]
+		t.shuffle(b*size, min((b+1)*size, n))
+		if err := t.trainOrder(ctx, epoch, k*size); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// trainOrder trains on the patterns of t.order, the first of which is
+// the done-th pattern of the epoch.
+func (t *trainer) trainOrder(ctx context.Context, epoch, done int) error {
 	rate := t.epochRate(epoch)
 	shrink := 1 - rate*t.opts.L2
 	s := &t.train
 	_, touching := s.store.(rowToucher)
 	for k, i := range t.order {
-		if k%ctxRows == ctxRows-1 {
+		if (done+k)%ctxRows == ctxRows-1 {
 			if err := stopped(ctx, epoch); err != nil {
 				return err
 			}
@@ -817,7 +909,7 @@ func (t *trainer) onlineEpoch(ctx context.Context, epoch int) error {
 		if touching && k%touchBlock == 0 {
 			t.touchAhead(k)
 		}
-		x, c := s.rowOf(i, t.row), s.classes[i]
+		x, c := s.rowOf(i, t.row), s.classes.at(i)
 		s.netInputsTo(t.outputs, t.current, i, x)
 		for j, z := range t.outputs {
 			target := t.target(j, c)
@@ -867,17 +959,17 @@ func (t *trainer) touchAhead(k int) {
 // recordUpdate hands the update of pattern i of the training sample, whose
 // per-unit values are in t.update, to the update recorder.
 func (t *trainer) recordUpdate(epoch, i int) {
-	t.update.Epoch, t.update.Row, t.update.Class = epoch, t.train.callerRow(i), t.train.classes[i]
+	t.update.Epoch, t.update.Row, t.update.Class = epoch, t.train.callerRow(i), t.train.classes.at(i)
 	t.updates.RecordUpdate(&t.update)
 }
 
-// shuffle sets t.order to the visiting order of epoch: a function of
-// (Seed, epoch) alone.
-func (t *trainer) shuffle(epoch int) {
-	for i := range t.order {
-		t.order[i] = i
+// shuffle sets t.order to a permutation of the patterns from through
+// to−1 drawn next from t.rng, shortening t.order to to−from.
+func (t *trainer) shuffle(from, to int) {
+	t.order = t.order[:to-from]
+	for k := range t.order {
+		t.order[k] = from + k
 	}
-	t.pcg.Seed(t.opts.Seed, uint64(epoch))
 	order := t.order
 	t.rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
 }
@@ -887,7 +979,7 @@ func (t *trainer) shuffle(epoch int) {
 // shrunk by 1 − rate·L2.
 func (t *trainer) batchEpoch(ctx context.Context, epoch int) error {
 	rate := t.epochRate(epoch)
-	step := rate / float64(len(t.train.classes))
+	step := rate / float64(t.train.classes.len())
 	if err := t.sumUpdates(ctx, epoch, step); err != nil {
 		return err
 	}
@@ -918,7 +1010,8 @@ func (t *trainer) onePassEpoch(ctx context.Context, epoch int) error {
 func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error {
 	t.sums.clear()
 	s := &t.train
-	for i, c := range s.classes {
+	for i := range s.classes.len() {
+		c := s.classes.at(i)
 		if i%ctxRows == ctxRows-1 {
 			if err := stopped(ctx, epoch); err != nil {
 				return err
@@ -953,7 +1046,7 @@ func (t *trainer) sumUpdates(ctx context.Context, epoch int, rate float64) error
 // up to Options.Workers (and the number of chunks). Once ctx is done no
 // chunk is started, and the result is not to be used.
 func (t *trainer) measure(ctx context.Context, s *sample, l layer) (loss float64, errors int) {
-	n := len(s.classes)
+	n := s.classes.len()
 	chunks := (n + measureChunk - 1) / measureChunk
 	workers := min(chunks, len(t.chunkOutputs))
 	if workers <= 1 {
@@ -1004,8 +1097,8 @@ const measureChunk = 4096
 // buffers. Its outputs and decisions are those of Network.Classify.
 func (t *trainer) measureChunk(s *sample, l layer, k int, outputs, row []float64) EpochStats {
 	var stats EpochStats
-	for i := k * measureChunk; i < min((k+1)*measureChunk, len(s.classes)); i++ {
-		x, c := s.rowOf(i, row), s.classes[i]
+	for i := k * measureChunk; i < min((k+1)*measureChunk, s.classes.len()); i++ {
+		x, c := s.rowOf(i, row), s.classes.at(i)
 		s.netInputsTo(outputs, l, i, x)
 		for j, z := range outputs {
 			outputs[j] = t.net.Unit.activate(z)

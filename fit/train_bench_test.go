@@ -17,7 +17,7 @@ func BenchmarkEpoch(b *testing.B) {
 				for _, batch := range []bool{false, true} {
 					name := fmt.Sprintf("rows=%d/inputs=%d/classes=%d/%s", rows, inputs, classes, modeName(batch))
 					b.Run(name, func(b *testing.B) {
-						tr, err := newTrainer(context.Background(), patterns, labels, classes, Options{Batch: batch})
+						tr, err := newTrainer(context.Background(), patterns, labelsOf(labels), classes, Options{Batch: batch})
 						if err != nil {
 							b.Fatal(err)
 						}

@@ -198,3 +198,38 @@ func (r *TableReader) Err() error {
 	}
 	return r.err
 }
+
+// InferKinds reads the first rows rows of rr (at least one batch) and
+// returns the kind Collect infers for each column from them, for a
+// TableReader, which does not infer kinds: kinds opts.Kinds declares are
+// kept, and the target (opts.Target) is left out, for TableReader to read
+// as class labels. A later cell that does not fit the kind inferred is
+// then an error naming its row and column. The caller releases rr.
+func InferKinds(name string, rr array.RecordReader, rows int, opts ReadOptions) (map[string]tabular.Kind, error) {
+	t, err := Collect(name, &headReader{RecordReader: rr, rows: rows}, opts)
+	if err != nil {
+		return nil, err
+	}
+	kinds := make(map[string]tabular.Kind, len(t.Columns))
+	for _, c := range t.Columns {
+		if _, declared := opts.Kinds[c.Name]; declared || c.Name != opts.Target {
+			kinds[c.Name] = c.Kind
+		}
+	}
+	return kinds, nil
+}
+
+// headReader reads the batches of a RecordReader until they hold rows
+// rows or more.
+type headReader struct {
+	array.RecordReader
+	rows, read int
+}
+
+func (h *headReader) Next() bool {
+	if h.read >= h.rows || !h.RecordReader.Next() {
+		return false
+	}
+	h.read += int(h.RecordBatch().NumRows())
+	return true
+}

@@ -1,8 +1,10 @@
 package main
 
 import (
+	"bufio"
 	"bytes"
 	"fmt"
+	"io"
 	"math/rand/v2"
 	"strconv"
 
@@ -19,20 +21,29 @@ type shape struct {
 	Seed                   uint64
 }
 
-// syntheticCSV writes a seeded synthetic table as CSV: Columns numeric
-// columns x1, x2, … and a class column c0, c1, …. Each row's class is
-// uniform; its values are normal with unit variance about a mean that
-// moves with the class, so the classes overlap and no run stops early on
-// zero errors. Invented data, for timing only; it is never written into
-// the repository.
+// syntheticCSV returns a seeded synthetic table as CSV (see
+// writeSyntheticCSV).
 func syntheticCSV(s shape) []byte {
-	rng := rand.New(rand.NewPCG(s.Seed, 1))
 	var buf bytes.Buffer
 	buf.Grow(s.Rows * (s.Columns*10 + 4))
+	_ = writeSyntheticCSV(&buf, s) // a bytes.Buffer does not fail
+	return buf.Bytes()
+}
+
+// writeSyntheticCSV writes a seeded synthetic table as CSV to w, row by
+// row, so a table larger than memory can be made: Columns numeric columns
+// x1, x2, … and a class column c0, c1, …. Each row's class is uniform; its
+// values are normal with unit variance about a mean that moves with the
+// class, so the classes overlap and no run stops early on zero errors.
+// Invented data, for timing only; it is never written into the
+// repository.
+func writeSyntheticCSV(w io.Writer, s shape) error {
+	rng := rand.New(rand.NewPCG(s.Seed, 1))
+	bw := bufio.NewWriterSize(w, 1<<20)
 	for j := range s.Columns {
-		fmt.Fprintf(&buf, "x%d,", j+1)
+		fmt.Fprintf(bw, "x%d,", j+1)
 	}
-	buf.WriteString(targetColumn + "\n")
+	bw.WriteString(targetColumn + "\n")
 	line := make([]byte, 0, 256)
 	for range s.Rows {
 		c := rng.IntN(s.Classes)
@@ -45,9 +56,11 @@ func syntheticCSV(s shape) []byte {
 		line = append(line, 'c')
 		line = strconv.AppendInt(line, int64(c), 10)
 		line = append(line, '\n')
-		buf.Write(line)
+		if _, err := bw.Write(line); err != nil {
+			return err
+		}
 	}
-	return buf.Bytes()
+	return bw.Flush()
 }
 
 // readDataset reads CSV bytes through the project's reader into a dataset.

@@ -5,8 +5,9 @@
 // or with -format json one object.
 //
 // The data are invented and written to a temporary directory that is
-// removed on exit. Data larger than memory (streamed stores) is not
-// measured.
+// removed on exit. stream_rss_mb runs the deltafit binary's fit --stream
+// as a child; sizes of the linearity series too large to fit in memory
+// (or from -stream-from rows) are timed on a disk pattern store.
 package main
 
 import (
@@ -44,6 +45,10 @@ type options struct {
 	cvEpochs               int
 	linearity              string
 	childRSS               string // internal: measure peak RSS of a fit of this file
+	childExec              bool   // internal: run the arguments as a command, print its peak RSS
+	writeCSV               string // write the synthetic CSV here and stop
+	deltafit               string // the deltafit binary whose fit --stream is measured
+	streamFrom             int    // rows from which the linearity series trains from a disk store
 	cpuProfile             string
 }
 
@@ -58,15 +63,23 @@ type report struct {
 	// Packed says whether the patterns trained on the packed 0/1 store.
 	Packed bool `json:"packed"`
 
-	EpochVsStream   float64 `json:"epoch_vs_stream"`
-	BlasVsEpoch     float64 `json:"blas_vs_epoch"`
-	QRVsFit         float64 `json:"qr_vs_fit"`
-	FixedVsEpoch    float64 `json:"fixed_vs_epoch"`
-	IngestVsArrow   float64 `json:"ingest_vs_arrow"`
-	CVSpeedup       float64 `json:"cv_speedup"`
-	Linearity       float64 `json:"linearity"`
-	RSSBytesPerRow  float64 `json:"rss_bytes_per_row"`
-	ToleranceEpochs int     `json:"tolerance_epochs"`
+	EpochVsStream  float64 `json:"epoch_vs_stream"`
+	BlasVsEpoch    float64 `json:"blas_vs_epoch"`
+	QRVsFit        float64 `json:"qr_vs_fit"`
+	FixedVsEpoch   float64 `json:"fixed_vs_epoch"`
+	IngestVsArrow  float64 `json:"ingest_vs_arrow"`
+	CVSpeedup      float64 `json:"cv_speedup"`
+	Linearity      float64 `json:"linearity"`
+	RSSBytesPerRow float64 `json:"rss_bytes_per_row"`
+	// StreamRSSMB is the peak resident set, in MiB, of deltafit fit
+	// --stream on the largest size of the linearity series; 0 when no
+	// deltafit binary was found.
+	StreamRSSMB float64 `json:"stream_rss_mb"`
+	// StreamRows is that size, and StreamedSizes the sizes of the
+	// linearity series timed on a disk store.
+	StreamRows      int   `json:"stream_rows"`
+	StreamedSizes   []int `json:"streamed_sizes,omitempty"`
+	ToleranceEpochs int   `json:"tolerance_epochs"`
 
 	Times   map[string]float64 `json:"times"`
 	Machine machine            `json:"machine"`
@@ -93,6 +106,10 @@ func main() {
 	flag.IntVar(&o.cvEpochs, "cv-epochs", 2, "epochs per fold of the timed cross-validation")
 	flag.StringVar(&o.linearity, "linearity", "", "comma-separated row counts for the linearity check (default n/10,n; 1e5,1e6 at full size)")
 	flag.StringVar(&o.childRSS, "child-rss", "", "internal: fit FILE and print the peak resident set in bytes")
+	flag.BoolVar(&o.childExec, "child-exec", false, "internal: run the arguments as a command and print its peak resident set in bytes")
+	flag.StringVar(&o.writeCSV, "write-csv", "", "write the synthetic table of -n rows as CSV to this file and stop (for fits of data larger than memory)")
+	flag.StringVar(&o.deltafit, "deltafit", "", "the deltafit binary whose fit --stream gives stream_rss_mb (default: deltafit beside this program, else on PATH)")
+	flag.IntVar(&o.streamFrom, "stream-from", 0, "rows from which the linearity series trains from a disk pattern store, block-shuffled, as fit --stream does (default: sizes whose in-memory fit would need more than half the physical memory)")
 	flag.StringVar(&o.cpuProfile, "cpuprofile", "", "write a CPU profile of the run to this file")
 	flag.Parse()
 	if o.cpuProfile != "" {
@@ -121,6 +138,12 @@ func run(o options, w io.Writer) error {
 	opts := encode.Options{Numeric: enc}
 	if o.childRSS != "" {
 		return childRSS(o.childRSS, opts, w)
+	}
+	if o.childExec {
+		return childExec(flag.Args(), w)
+	}
+	if o.writeCSV != "" {
+		return writeCSVFile(o.writeCSV, shape{Rows: o.rows, Columns: o.columns, Classes: o.classes, Seed: o.seed})
 	}
 	if o.quick {
 		if !flagSet("n") {
@@ -293,6 +316,16 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 	// Epoch time per row over sizes.
 	var perRow []float64
 	for _, n := range sizes {
+		if streamed(o, n) {
+			t, err := diskEpochTime(o, opts, n)
+			if err != nil {
+				return nil, err
+			}
+			sec(fmt.Sprintf("epoch_n%d_disk", n), t)
+			perRow = append(perRow, t.Seconds()/float64(n))
+			r.StreamedSizes = append(r.StreamedSizes, n)
+			continue
+		}
 		small, err := readDataset("linearity", syntheticCSV(shape{Rows: n, Columns: o.columns, Classes: o.classes, Seed: o.seed}))
 		if err != nil {
 			return nil, err
@@ -317,7 +350,36 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 	}
 	r.Times["rss_peak_bytes"] = float64(peak)
 	r.RSSBytesPerRow = float64(peak) / float64(o.rows)
+
+	// Peak RSS of fit --stream at the largest size.
+	r.StreamRows = slices.Max(sizes)
+	if bin := deltafitBinary(o.deltafit); bin != "" {
+		streamPath := filepath.Join(dir, "stream.csv")
+		if err := writeCSVFile(streamPath, shape{Rows: r.StreamRows, Columns: o.columns, Classes: o.classes, Seed: o.seed}); err != nil {
+			return nil, err
+		}
+		peak, wall, err := streamRSS(bin, streamPath, o)
+		if err != nil {
+			return nil, err
+		}
+		os.Remove(streamPath)
+		r.StreamRSSMB = float64(peak) / (1 << 20)
+		sec("fit_stream", wall)
+	}
 	return r, nil
+}
+
+// writeCSVFile writes the synthetic table of shape s to path.
+func writeCSVFile(path string, s shape) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if err := writeSyntheticCSV(f, s); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
 }
 
 // measureRSS runs this program again to read, fit and encode the file at
@@ -327,11 +389,8 @@ func measureRSS(path string, o options) (int64, error) {
 	if err != nil {
 		return 0, err
 	}
-	out, err := exec.Command(self, "-child-rss", path, "-encoding", o.encoding, "-seed", strconv.FormatUint(o.seed, 10)).Output()
-	if err != nil {
-		return 0, fmt.Errorf("peak RSS child: %w", err)
-	}
-	return strconv.ParseInt(strings.TrimSpace(string(out)), 10, 64)
+	peak, _, err := peakRSS(self, "-child-rss", path, "-encoding", o.encoding, "-seed", strconv.FormatUint(o.seed, 10))
+	return peak, err
 }
 
 // childRSS reads the file at path, fits a plan and trains two epochs, the
@@ -357,6 +416,99 @@ func childRSS(path string, opts encode.Options, w io.Writer) error {
 	}
 	_, err = fmt.Fprintln(w, usage.Maxrss*1024)
 	return err
+}
+
+// deltafitBinary returns the deltafit binary to measure: path when given,
+// else deltafit beside this program, else on PATH; "" when there is none.
+func deltafitBinary(path string) string {
+	if path != "" {
+		return path
+	}
+	if self, err := os.Executable(); err == nil {
+		if p := filepath.Join(filepath.Dir(self), "deltafit"); fileExists(p) {
+			return p
+		}
+	}
+	if p, err := exec.LookPath("deltafit"); err == nil {
+		return p
+	}
+	return ""
+}
+
+func fileExists(path string) bool {
+	fi, err := os.Stat(path)
+	return err == nil && fi.Mode().IsRegular()
+}
+
+// streamRSS runs deltafit fit --stream on the CSV at path for two epochs
+// and returns its peak resident set in bytes and its wall time.
+func streamRSS(bin, path string, o options) (int64, time.Duration, error) {
+	return peakRSS(bin, "fit", path, "--target", targetColumn, "--stream", "--numeric", o.encoding,
+		"--epochs", "2", "--seed", strconv.FormatUint(o.seed, 10), "-o", os.DevNull)
+}
+
+// peakRSS runs a command and returns its peak resident set in bytes and
+// its wall time. The command is started by a small copy of this program
+// (-child-exec), which reports the command's getrusage ru_maxrss: Linux
+// starts the ru_maxrss of a process at the peak of the one that execs it,
+// and Go starts commands from the parent's own memory, so a command
+// started straight from this program, which holds the benchmark's data,
+// would report this program's peak.
+func peakRSS(name string, args ...string) (int64, time.Duration, error) {
+	self, err := os.Executable()
+	if err != nil {
+		return 0, 0, err
+	}
+	cmd := exec.Command(self, append([]string{"-child-exec", "--", name}, args...)...)
+	var stderr strings.Builder
+	cmd.Stderr = &stderr
+	start := time.Now()
+	out, err := cmd.Output()
+	if err != nil {
+		return 0, 0, fmt.Errorf("%s: %w: %s", name, err, stderr.String())
+	}
+	wall := time.Since(start)
+	fields := strings.Fields(string(out))
+	if len(fields) == 0 {
+		return 0, 0, fmt.Errorf("%s: no peak resident set reported", name)
+	}
+	peak, err := strconv.ParseInt(fields[len(fields)-1], 10, 64)
+	return peak, wall, err
+}
+
+// childExec runs args as a command, its output discarded, and prints the
+// command's peak resident set (getrusage ru_maxrss, KiB on Linux) in
+// bytes.
+func childExec(args []string, w io.Writer) error {
+	if len(args) == 0 {
+		return errors.New("-child-exec: no command")
+	}
+	cmd := exec.Command(args[0], args[1:]...)
+	cmd.Stdout, cmd.Stderr = io.Discard, os.Stderr
+	if err := cmd.Run(); err != nil {
+		return err
+	}
+	usage, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage)
+	if !ok {
+		return errors.New("no resource usage of the command")
+	}
+	_, err := fmt.Fprintln(w, usage.Maxrss*1024)
+	return err
+}
+
+// streamed reports whether the linearity series times size n on a disk
+// store: from -stream-from rows, or when an in-memory fit of n rows would
+// need more than half the physical memory (at 1000 bytes a row, a little
+// over what rss_bytes_per_row measures).
+func streamed(o options, n int) bool {
+	if o.streamFrom > 0 {
+		return n >= o.streamFrom
+	}
+	var info syscall.Sysinfo_t
+	if err := syscall.Sysinfo(&info); err != nil {
+		return false
+	}
+	return float64(n)*1000 > float64(info.Totalram)*float64(info.Unit)/2
 }
 
 // cpuModel returns the first model name of /proc/cpuinfo, or "unknown".
@@ -389,6 +541,7 @@ var targets = []struct {
 	{"cv_speedup", 1.7, false},
 	{"linearity", 0.10, true},
 	{"rss_bytes_per_row", 100, true},
+	{"stream_rss_mb", 512, true},
 }
 
 func printTable(w io.Writer, r *report) error {
@@ -406,6 +559,10 @@ func printTable(w io.Writer, r *report) error {
 	fmt.Fprintln(tw, "ratio\tmeasured\ttarget\tmet")
 	for _, t := range targets {
 		v := values[t.key].(float64)
+		if t.key == "stream_rss_mb" && v == 0 {
+			fmt.Fprintf(tw, "%s\tnot measured\t≤ %.2f\t\n", t.key, t.goal)
+			continue
+		}
 		rel, met := "≥", v >= t.goal
 		if t.atMost {
 			rel, met = "≤", v <= t.goal
@@ -422,5 +579,13 @@ func printTable(w io.Writer, r *report) error {
 		fmt.Fprintf(tw, "%s\t%.4g\t\t\n", k, r.Times[k])
 	}
 	fmt.Fprintf(tw, "fit to tolerance took %d epochs\n", r.ToleranceEpochs)
+	if r.StreamRSSMB == 0 {
+		fmt.Fprintln(tw, "stream_rss_mb not measured: no deltafit binary beside this program or on PATH (-deltafit)")
+	} else {
+		fmt.Fprintf(tw, "stream_rss_mb is of deltafit fit --stream on %d rows\n", r.StreamRows)
+	}
+	if len(r.StreamedSizes) > 0 {
+		fmt.Fprintf(tw, "linearity sizes timed on a disk store (block-shuffled): %v\n", r.StreamedSizes)
+	}
 	return tw.Flush()
 }

@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"path/filepath"
 	"slices"
 	"time"
 
@@ -300,4 +301,75 @@ func cvTime(d *tabular.Dataset, opts encode.Options, epochs, workers int, seed u
 func relativeSpread(xs []float64) float64 {
 	lo, hi := slices.Min(xs), slices.Max(xs)
 	return (hi - lo) / lo
+}
+
+// diskChunk is the rows of synthetic data encoded at a time into a disk
+// store.
+const diskChunk = 1_000_000
+
+// diskEpochTime writes n synthetic rows, encoded chunk by chunk, into a
+// disk pattern store and returns the shortest online epoch after the first
+// of a fit on it, block-shuffled with the store's blocks as fit --stream
+// trains. Each chunk is generated with its own seed and the plan is fitted
+// on the first chunk: data for timing, of the same shape.
+func diskEpochTime(o options, opts encode.Options, n int) (time.Duration, error) {
+	dir, err := os.MkdirTemp("", "deltafit-bench-disk")
+	if err != nil {
+		return 0, err
+	}
+	defer os.RemoveAll(dir)
+	path := filepath.Join(dir, "store.dfp")
+	var w *fit.DiskWriter
+	var plan *encode.Plan
+	var values []float64
+	for done, k := 0, uint64(0); done < n; k++ {
+		rows := min(diskChunk, n-done)
+		d, err := readDataset("chunk", syntheticCSV(shape{Rows: rows, Columns: o.columns, Classes: o.classes, Seed: o.seed + k}))
+		if err != nil {
+			return 0, err
+		}
+		if plan == nil {
+			if plan, err = encode.FitPlan(d.Features, nil, opts); err != nil {
+				return 0, err
+			}
+			packed := plan.Binary()
+			if w, err = fit.CreateDiskStore(path, plan.Width(), o.classes, fit.DiskBlockRows(plan.Width(), packed), packed); err != nil {
+				return 0, err
+			}
+		}
+		values, _ = plan.EncodeTo(values, d.Features, nil)
+		width := plan.Width()
+		for i, c := range d.Classes {
+			if err := w.Append(values[i*width:(i+1)*width], c); err != nil {
+				w.Abort()
+				return 0, err
+			}
+		}
+		done += rows
+	}
+	if err := w.Close(); err != nil {
+		return 0, err
+	}
+	store, err := fit.OpenDiskStore(path, 0)
+	if err != nil {
+		return 0, err
+	}
+	defer store.Close()
+	classes, err := store.Classes()
+	if err != nil {
+		return 0, err
+	}
+	clock := &epochClock{}
+	fitOpts := fit.Options{Epochs: o.epochs, Stop: []fit.Converger{}, Seed: o.seed, Recorder: clock, Workers: 1, Block: store.BlockRows()}
+	if _, err := fit.TrainBytesContext(context.Background(), store, classes, o.classes, fitOpts); err != nil {
+		return 0, err
+	}
+	if err := store.Err(); err != nil {
+		return 0, err
+	}
+	epoch := time.Duration(math.MaxInt64)
+	for k := 1; k < len(clock.ends); k++ {
+		epoch = min(epoch, clock.ends[k].Sub(clock.ends[k-1]))
+	}
+	return epoch, nil
 }

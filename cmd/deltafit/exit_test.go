@@ -33,6 +33,14 @@ func TestExitCodes(t *testing.T) {
 		// Widrow & Stearns 1985: LMS diverges for rates above 2/λmax.
 		{"divergence", []string{"fit", iris, "--target", "species", "--unit", "linear", "--rate", "50"}, 1, "try --rate auto"},
 		{"missing model", []string{"predict", "--model", "none.json", iris}, 1, "cannot open the model"},
+		{"stream folds", []string{"fit", iris, "--target", "species", "--stream", "--folds", "3"}, 2, "--folds is not offered with --stream yet"},
+		{"stream holdout", []string{"fit", iris, "--target", "species", "--stream", "--holdout", "0.2"}, 2, "--holdout is not offered with --stream yet"},
+		{"stream auto", []string{"fit", iris, "--target", "species", "--stream", "--numeric", "auto"}, 2, "--numeric auto is not offered with --stream yet"},
+		{"stream stdin", []string{"fit", "-", "--target", "species", "--stream"}, 2, "reads DATA twice"},
+		{"over the budget with folds", []string{"fit", iris, "--target", "species", "--memory", "1KB", "--folds", "3"}, 2, "--folds is not offered with a fit on data larger than the memory budget"},
+		{"bad memory", []string{"fit", iris, "--target", "species", "--memory", "lots"}, 2, "--memory"},
+		{"negative block", []string{"fit", iris, "--target", "species", "--block", "-1"}, 2, "--block -1"},
+		{"cache without stream", []string{"fit", iris, "--target", "species", "--cache", "store.dfp"}, 2, "--cache keeps the pattern store"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			var stdout, stderr bytes.Buffer

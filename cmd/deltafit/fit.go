@@ -184,6 +184,7 @@ type fitOptions struct {
 	format  string
 	outputs reportOutputs
 	oof     string
+	stream  streamFlags
 }
 
 func newFitCmd() *cobra.Command {
@@ -197,6 +198,16 @@ With -o it writes the model file (atomically). With --folds K it also runs
 stratified K-fold cross-validation, fitting the encoding and the weights on
 each training fold only, and reports the pooled out-of-fold confusion table
 beside the majority-class and Hebbian baselines.
+
+With --stream, or when DATA is a file whose in-memory fit would need more
+than --memory, fit never holds more than a batch of DATA: it reads DATA
+once to fit the plan from bounded summaries (quantile cuts from a sketch,
+exact while a column's values fit it, else within the rank error the plan
+records as quantile_rank_error), again to encode every row into a pattern
+store on disk (removed afterwards unless kept with --cache), and trains
+from the store block by block, each epoch block-shuffled (--block). It
+does not yet cross-validate (--folds), hold out rows (--holdout), choose
+the encoding (--numeric auto) or read stdin.
 ` + exitStatusHelp,
 		Example: `  deltafit fit testdata/iris.csv --target species --folds 10 --seed 1
   cat runs.csv | deltafit fit - --target outcome --ignore run_id -o model.json --format json`,
@@ -214,6 +225,7 @@ beside the majority-class and Hebbian baselines.
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	opts.outputs.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.oof, "oof", "", "with --folds: write each row's out-of-fold prediction (fold, true and predicted class, scores) to this file: .csv, .jsonl, .arrow or .parquet")
+	opts.stream.add(cmd.Flags())
 	return cmd
 }
 
@@ -241,11 +253,32 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if _, err := oofFormat(opts.oof, opts.folds, path); err != nil {
 		return err
 	}
+	if opts.stream.block < 0 {
+		return usagef("--block %d: give a number of rows, or 0 for one full shuffle", opts.stream.block)
+	}
+	if err := checkOutputPath("--cache", opts.stream.cache, path); err != nil {
+		return err
+	}
+	stream, note, err := opts.stream.streaming(path)
+	if err != nil {
+		return err
+	}
+	if stream {
+		if err := checkStream(&opts, path, opts.learn.given, stderr); err != nil {
+			return err
+		}
+		fmt.Fprint(stderr, note)
+		return runFitStream(ctx, opts, path, stdout, stderr, format)
+	}
+	if opts.stream.cache != "" {
+		return usagef("--cache keeps the pattern store of --stream; give --stream too")
+	}
 	learner, d, sha, err := loadDataset(opts.input, opts.learn, &opts.missing, path, stdin, stderr)
 	if err != nil {
 		return err
 	}
 	learner.Fit.Warn = warnOnce(stderr)
+	learner.Fit.Block = opts.stream.block
 	positive, err := opts.outputs.positiveClass(d.Labels)
 	if err != nil {
 		return err
@@ -268,8 +301,9 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	}
 	modelPath := opts.output
 	if opts.output != "" {
-		model := export.NewModel(study.Fitted,
-			opts.learn.modelOptions(opts.input.kinds), export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
+		modelOpts := opts.learn.modelOptions(opts.input.kinds)
+		modelOpts.Block = opts.stream.block
+		model := export.NewModel(study.Fitted, modelOpts, export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
 		write := func(w io.Writer) error { return export.WriteModel(w, model) }
 		if opts.output == "-" {
 			modelPath = "stdout"

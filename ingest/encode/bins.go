@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 	"sort"
 	"strconv"
 
@@ -57,7 +56,7 @@ func (thermometer) parse(e *Encoding, arg string, hasArg bool) error {
 }
 
 func (thermometer) fit(f *Feature, s *Summary, e Encoding) error {
-	f.Cuts = quantileCuts(s.Values, e.Bins)
+	f.Cuts = quantileCuts(s.ranks(), e.Bins)
 	return nil
 }
 
@@ -96,7 +95,7 @@ type bins struct{}
 func (bins) parse(e *Encoding, arg string, hasArg bool) error { return parseBins(e, arg, hasArg) }
 
 func (bins) fit(f *Feature, s *Summary, e Encoding) error {
-	f.Cuts = quantileCuts(s.Values, e.Bins)
+	f.Cuts = quantileCuts(s.ranks(), e.Bins)
 	return nil
 }
 
@@ -135,14 +134,18 @@ func (threshold) parse(e *Encoding, arg string, hasArg bool) error {
 }
 
 func (threshold) fit(f *Feature, s *Summary, e Encoding) error {
-	cut := median(s.Values)
 	if e.Cut != nil {
-		cut = *e.Cut
-	} else if len(s.Values) > 0 && cut >= slices.Max(s.Values) && slices.Min(s.Values) < cut {
-		// The median is the maximum (most values are): a cut there would
-		// leave the unit off on every training row.
-		sorted := slices.Sorted(slices.Values(s.Values))
-		cut = belowMax(sorted)
+		f.Cuts = []float64{*e.Cut}
+		return nil
+	}
+	cut := 0.0
+	if r := s.ranks(); r != nil && r.len() > 0 {
+		cut = quantile(r, 0.5)
+		if cut >= r.max() && r.min() < cut {
+			// The median is the maximum (most values are): a cut there
+			// would leave the unit off on every training row.
+			cut = r.belowMax()
+		}
 	}
 	f.Cuts = []float64{cut}
 	return nil

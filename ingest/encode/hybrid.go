@@ -13,7 +13,7 @@ type hybrid struct{}
 func (hybrid) parse(e *Encoding, arg string, hasArg bool) error { return parseBins(e, arg, hasArg) }
 
 func (hybrid) fit(f *Feature, s *Summary, e Encoding) error {
-	f.Cuts = quantileCuts(s.Values, e.Bins)
+	f.Cuts = quantileCuts(s.ranks(), e.Bins)
 	return zscore{}.fit(f, s, e)
 }
 

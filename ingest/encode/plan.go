@@ -14,6 +14,14 @@ import (
 // training rows were.
 type Plan struct {
 	Features []Feature `json:"features"`
+	// QuantileRankError is, for a plan fitted from summaries that sketch
+	// their numeric values (a plan fitted in a streaming pass over data
+	// larger than memory), the largest bound on the rank error of any
+	// column's quantile cuts, as a fraction of the column's present values
+	// (see Sketch): each cut lies between the order statistics whose ranks
+	// are within that fraction of its exact rank. 0, and not written, when
+	// every cut is exact.
+	QuantileRankError float64 `json:"quantile_rank_error,omitempty"`
 }
 
 // Feature is the fitted encoding of one column.
@@ -104,9 +112,24 @@ func PlanFromSummaries(summaries []*Summary, opts Options) (*Plan, error) {
 		if err := m.fit(&f, s, e); err != nil {
 			return nil, &tabular.DataError{Name: s.Column, Err: err}
 		}
+		if quantileCut(e) {
+			p.QuantileRankError = max(p.QuantileRankError, s.RankError())
+		}
 		p.Features = append(p.Features, f)
 	}
 	return p, nil
+}
+
+// quantileCut reports whether the numeric encoding e places cuts at
+// quantiles of the training values.
+func quantileCut(e Encoding) bool {
+	switch e.Method {
+	case Thermometer, OneHot, Hybrid:
+		return true
+	case Threshold:
+		return e.Cut == nil
+	}
+	return false
 }
 
 func allRows(n int) []int {
@@ -237,4 +260,18 @@ func (f *Feature) validate() error {
 		return errors.New("categorical features have no cuts")
 	}
 	return m.validate(f)
+}
+
+// Binary reports whether every unit of the plan is 0 or 1 on every row:
+// no feature is encoded by zscore, minmax or hybrid, whose units take
+// other values. Patterns of a binary plan can be stored packed, one bit a
+// unit.
+func (p *Plan) Binary() bool {
+	for _, f := range p.Features {
+		switch f.Method {
+		case ZScore, MinMax, Hybrid:
+			return false
+		}
+	}
+	return true
 }

@@ -12,24 +12,22 @@ import (
 // few distinct values gets at most one unit per gap between consecutive
 // distinct values (a 0/1 column: one). A column of two or more distinct
 // values always gets at least one cut; a constant column gets none.
-func quantileCuts(values []float64, bins int) []float64 {
-	if len(values) == 0 {
+func quantileCuts(r ranks, bins int) []float64 {
+	if r == nil || r.len() == 0 {
 		return nil
 	}
-	sorted := slices.Clone(values)
-	slices.Sort(sorted)
-	lo, hi := sorted[0], sorted[len(sorted)-1]
+	lo, hi := r.min(), r.max()
 	if lo == hi {
 		return nil
 	}
 	var cuts []float64
 	lastAtOrBelow := -1 // training values at or below the last cut kept
 	for k := 1; k < bins; k++ {
-		c := quantile(sorted, float64(k)/float64(bins))
+		c := quantile(r, float64(k)/float64(bins))
 		if c < lo || c >= hi {
 			continue
 		}
-		atOrBelow := countAtOrBelow(sorted, c)
+		atOrBelow := r.atOrBelow(c)
 		if atOrBelow == lastAtOrBelow {
 			continue
 		}
@@ -38,7 +36,7 @@ func quantileCuts(values []float64, bins int) []float64 {
 	}
 	if len(cuts) == 0 {
 		// Every quantile fell on the maximum: split it from the rest.
-		cuts = []float64{belowMax(sorted)}
+		cuts = []float64{r.belowMax()}
 	}
 	return cuts
 }
@@ -62,30 +60,23 @@ func belowMax(sorted []float64) float64 {
 	return sorted[i-1]
 }
 
-// quantile of sorted values by linear interpolation between order
+// quantile of ranked values by linear interpolation between order
 // statistics (Hyndman & Fan 1996, definition 7).
-func quantile(sorted []float64, q float64) float64 {
-	pos := q * float64(len(sorted)-1)
+func quantile(r ranks, q float64) float64 {
+	n := r.len()
+	pos := q * float64(n-1)
 	i := int(pos)
-	if i+1 >= len(sorted) {
-		return sorted[len(sorted)-1]
+	if i+1 >= n {
+		return r.at(n - 1)
 	}
 	frac := pos - float64(i)
-	if gap := sorted[i+1] - sorted[i]; !math.IsInf(gap, 0) {
-		return sorted[i] + frac*gap
+	below, above := r.at(i), r.at(i+1)
+	if gap := above - below; !math.IsInf(gap, 0) {
+		return below + frac*gap
 	}
 	// The gap overflows only for values near ±MaxFloat64; the weighted
 	// form cannot.
-	return sorted[i]*(1-frac) + sorted[i+1]*frac
-}
-
-func median(values []float64) float64 {
-	if len(values) == 0 {
-		return 0
-	}
-	sorted := slices.Clone(values)
-	slices.Sort(sorted)
-	return quantile(sorted, 0.5)
+	return below*(1-frac) + above*frac
 }
 
 func meanSD(values []float64) (mean, sd float64) {

@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 
 	"deltafit/ingest/tabular"
 )
@@ -51,7 +50,7 @@ type zscore struct{}
 func (zscore) parse(e *Encoding, arg string, hasArg bool) error { return noArgument(e, arg, hasArg) }
 
 func (zscore) fit(f *Feature, s *Summary, _ Encoding) error {
-	f.Center, f.Scale = meanSD(s.Values)
+	f.Center, f.Scale = s.meanSD()
 	return checkScale(f)
 }
 
@@ -74,8 +73,7 @@ type minmax struct{}
 func (minmax) parse(e *Encoding, arg string, hasArg bool) error { return noArgument(e, arg, hasArg) }
 
 func (minmax) fit(f *Feature, s *Summary, _ Encoding) error {
-	if values := s.Values; len(values) > 0 {
-		lo, hi := slices.Min(values), slices.Max(values)
+	if lo, hi, ok := s.extremes(); ok {
 		f.Center, f.Scale = lo, hi-lo
 	}
 	return checkScale(f)

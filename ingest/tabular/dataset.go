@@ -44,13 +44,8 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	if err != nil {
 		return nil, err
 	}
-	if (col.Kind == Numeric || (col.LabelText && allNumbers(labels))) && len(labels) > MaxNumericClasses {
-		return nil, &DataError{File: t.Name, Column: t.Position(target), Name: target,
-			Err: fmt.Errorf("the target holds %d distinct numbers, so it looks like a measurement, not a class (at most %d distinct numbers are taken as classes); group it into classes, or declare the column categorical to take each value as a class", len(labels), MaxNumericClasses)}
-	}
-	if len(labels) < 2 {
-		return nil, &DataError{File: t.Name, Column: t.Position(target), Name: target,
-			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", labels[0])}
+	if err := CheckLabels(t.Name, col, t.Position(target), labels); err != nil {
+		return nil, err
 	}
 	d := &Dataset{Table: t, Target: target, Labels: labels, Classes: classes, SameNumber: sameNumber(labels)}
 	if d.Features, err = featureColumns(t, target, ignore); err != nil {
@@ -58,6 +53,29 @@ func NewDataset(t *Table, target string, ignore []string) (*Dataset, error) {
 	}
 	return d, nil
 }
+
+// CheckLabels checks the sorted class labels of the target column col
+// (position 1-based, 0 unknown, in file) as NewDataset does: at least two
+// classes, and at most MaxNumericClasses when they are numbers.
+func CheckLabels(file string, col *Column, position int, labels []string) error {
+	if (col.Kind == Numeric || (col.LabelText && allNumbers(labels))) && len(labels) > MaxNumericClasses {
+		return &DataError{File: file, Column: position, Name: col.Name,
+			Err: fmt.Errorf("the target holds %d distinct numbers, so it looks like a measurement, not a class (at most %d distinct numbers are taken as classes); group it into classes, or declare the column categorical to take each value as a class", len(labels), MaxNumericClasses)}
+	}
+	if len(labels) < 2 {
+		first := ""
+		if len(labels) == 1 {
+			first = labels[0]
+		}
+		return &DataError{File: file, Column: position, Name: col.Name,
+			Err: fmt.Errorf("every row has the same class %q; a classifier needs at least two classes", first)}
+	}
+	return nil
+}
+
+// SortLabels sorts class labels as NewDataset orders them: numerically
+// when all are numbers, else as text.
+func SortLabels(labels []string) { sortLabels(labels) }
 
 // Features returns the columns of t other than the target (none for "")
 // and the ignored ones, in table order, as NewDataset picks them. Ignoring
