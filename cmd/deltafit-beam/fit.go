@@ -21,6 +21,7 @@ import (
 	"deltafit/cmd/deltafit-beam/pipeline"
 	"deltafit/export"
 	"deltafit/fit"
+	"deltafit/ingest/encode"
 	"deltafit/ingest/tabular"
 )
 
@@ -52,6 +53,7 @@ type fitOptions struct {
 	work      string
 	runner    string
 	logLevel  string
+	sketch    int
 
 	tolerance         float64
 	stopWhenSeparated bool
@@ -118,6 +120,7 @@ passes over the data.
 	}
 	fs.IntVar(&opts.folds, "folds", folds, "cross-validate with this many stratified folds (0: none)")
 	fs.StringVar(&opts.mode, "mode", pipeline.ModeBatch, "training: batch (full-batch gradient descent, as deltafit fit --batch) or averaged (online per block, weights averaged by row count)")
+	fs.IntVar(&opts.sketch, "quantile-sketch", encode.DefaultSketchCapacity, "values a level of a numeric column's quantile sketch keeps: cuts are exact up to this many present values a column, then within the rank error the report states; 0 keeps every value (exact, 8 bytes a cell in memory)")
 	fs.IntVar(&opts.blockRows, "block-rows", pipeline.DefaultBlockRows, "rows per block, the unit of work and of every partial sum")
 	fs.StringVar(&opts.work, "work", "", "directory for the run's result, readable by this program and writable by the workers (default: a temporary directory, with the prism runner only)")
 	fs.StringVar(&opts.runner, "runner", "prism", "Beam runner: prism (in-process), flink, spark or universal (a portable job endpoint)")
@@ -207,6 +210,9 @@ func (o fitOptions) config() (*pipeline.Config, error) {
 	if !(o.tolerance >= 0) {
 		return nil, usagef("--tolerance %v: give 0 or a positive fraction", o.tolerance)
 	}
+	if o.sketch < 0 || o.sketch == 1 {
+		return nil, usagef("--quantile-sketch %d: give 0 (every value) or at least 2", o.sketch)
+	}
 	if o.blockRows < 1 {
 		return nil, usagef("--block-rows %d: give at least 1", o.blockRows)
 	}
@@ -215,7 +221,7 @@ func (o fitOptions) config() (*pipeline.Config, error) {
 		DropMissing: o.missing == "drop", Numeric: o.numeric, Categorical: o.categorical,
 		Rule: o.rule, Unit: o.unit, Epochs: o.epochs, Seed: o.seed, Mode: o.mode,
 		Folds: o.folds, BlockRows: o.blockRows, Work: o.work,
-		Tolerance: o.tolerance, KeepGoing: !o.stopWhenSeparated,
+		Tolerance: o.tolerance, KeepGoing: !o.stopWhenSeparated, SketchCapacity: o.sketch,
 	}
 	switch d := o.delimiter; {
 	case d == "tab" || d == `\t`:

@@ -46,6 +46,10 @@ type Config struct {
 
 	Numeric     string // numeric encoding, as --numeric; "" means hybrid:8
 	Categorical string // as --categorical; "" means onehot:1
+	// SketchCapacity, when positive, is the capacity per level of the
+	// quantile sketches of numeric columns (encode.NewSketch); 0 keeps
+	// every present value, for exact cuts at 8 bytes a cell.
+	SketchCapacity int
 
 	Rule      string  // delta or hebbian
 	Unit      string  // logistic or linear

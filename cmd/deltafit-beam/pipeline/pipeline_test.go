@@ -479,3 +479,91 @@ func TestDefaultStopAsLocal(t *testing.T) {
 		t.Errorf("model file: %d errors, loss %v; the last epoch's are %d, %v", training.Errors, training.Loss, last.Errors, last.Loss)
 	}
 }
+
+// The plan from quantile sketches: with a capacity above the column's
+// length the sketches hold every value and the plan is the exact local one;
+// with a small capacity it is the plan encode.PlanFromSummaries fits on the
+// sketches of the same blocks merged in the same order (a file's blocks as
+// read, then the files by key: sketches merge in an order, not as a sum),
+// it reports its rank error, and a warning says so
+// (Iris, Fisher 1936, in 3 files of 50 rows, blocks of 16).
+func TestSketchedPlan(t *testing.T) {
+	dir := splitFile(t, filepath.Join(testdata, "iris.csv"), 3)
+	keys := []string{"part-0.csv", "part-1.csv", "part-2.csv"}
+	config := func(capacity int) *Config {
+		c := &Config{Keys: keys, Target: "species", Work: t.TempDir(), BlockRows: 16, Epochs: 2, SketchCapacity: capacity}
+		for _, k := range keys {
+			c.Paths = append(c.Paths, filepath.Join(dir, k))
+		}
+		return c
+	}
+
+	c := config(encode.DefaultSketchCapacity)
+	s := run(t, c)
+	d := localDataset(t, filepath.Join(testdata, "iris.csv"), "species", c)
+	encOpts, _ := c.encodeOptions()
+	exact, err := encode.FitPlan(d.Features, nil, encOpts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(s.Plans[0], exact) || len(s.Warnings) != 0 {
+		t.Errorf("sketches larger than the columns: plan %+v, warnings %q; want the exact plan %+v and no warning", s.Plans[0], s.Warnings, exact)
+	}
+
+	const capacity = 8
+	c = config(capacity)
+	s = run(t, c)
+	var merged []*encode.Summary
+	for _, k := range keys {
+		f, err := os.Open(filepath.Join(dir, k))
+		if err != nil {
+			t.Fatal(err)
+		}
+		opts, _ := c.readOptions()
+		opts.Target = "species"
+		table, err := ingest.ReadTable(k, f, opts)
+		f.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		features := slices.DeleteFunc(slices.Clone(table.Columns), func(col *tabular.Column) bool { return col.Name == "species" })
+		var file []*encode.Summary // the file's blocks, merged as read
+		for start := 0; start < table.Rows; start += c.BlockRows {
+			var rows []int
+			for r := start; r < min(start+c.BlockRows, table.Rows); r++ {
+				rows = append(rows, r)
+			}
+			for i, col := range features {
+				sum := encode.NewStreamSummary(col.Name, col.Kind, capacity)
+				sum.Add(col, rows)
+				if len(file) < len(features) {
+					file = append(file, sum)
+				} else if err := file[i].Merge(sum); err != nil {
+					t.Fatal(err)
+				}
+			}
+		}
+		if merged == nil {
+			merged = file
+			continue
+		}
+		for i, sum := range file {
+			if err := merged[i].Merge(sum); err != nil {
+				t.Fatal(err)
+			}
+		}
+	}
+	want, err := encode.PlanFromSummaries(merged, encOpts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want.QuantileRankError <= 0 {
+		t.Fatalf("sketches of %d values over 150 rows report no rank error", capacity)
+	}
+	if !reflect.DeepEqual(s.Plans[0], want) {
+		t.Errorf("plan from sketches %+v, want %+v", s.Plans[0], want)
+	}
+	if len(s.Warnings) != 1 || !strings.Contains(s.Warnings[0], "quantile cuts come from sketches") {
+		t.Errorf("warnings %q, want one about the sketched cuts", s.Warnings)
+	}
+}

@@ -19,7 +19,11 @@ import (
 // with encode.Summary.Merge, so that each plan is encode.PlanFromSummaries
 // of the summaries of its rows in row order: the plan encode.FitPlan fits
 // on those rows, exactly. Numeric summaries keep their values, so the
-// combine holds 8 bytes per numeric cell of the data.
+// combine holds 8 bytes per numeric cell of the data; with
+// Config.SketchCapacity they keep a bounded sketch instead (a file's
+// blocks merged as they are read), whose cuts are exact while a column has
+// no more present values than the capacity and otherwise within the
+// sketch's rank error, which the plan and a warning report.
 
 // planPartial is a block's contribution to the plan pass.
 type planPartial struct {
@@ -119,7 +123,7 @@ func summarizeBlock(c *Config, b *block, folds *foldIndex) (*planPartial, error)
 			if col == target || slices.Contains(c.Ignore, col.Name) {
 				continue
 			}
-			summaries = append(summaries, encode.Summarize(col, rows))
+			summaries = append(summaries, summarize(c, col, rows))
 		}
 		labels := map[string]int{}
 		if rows == nil {
@@ -256,12 +260,28 @@ func mergePlan(c *Config, parts []Partial) (*State, error) {
 		if err := model.CheckSize(len(labels), len(summaries), plan.Width()); err != nil {
 			return nil, fmt.Errorf("%s: %w", tabular.DisplayName(first.Path), err)
 		}
+		if k == 0 && plan.QuantileRankError > 0 {
+			s.Warnings = append(s.Warnings, fmt.Sprintf("the quantile cuts come from sketches of at most %d values a level: each cut's rank is within %.3g%% of the rows of its exact rank", c.SketchCapacity, 100*plan.QuantileRankError))
+		}
 		s.Plans = append(s.Plans, plan)
 	}
 	if err := s.addModels(c, merged.LabelRows); err != nil {
 		return nil, err
 	}
 	return s, nil
+}
+
+// summarize summarises col on rows for the plan: every present value of a
+// numeric column (exact cuts), or with Config.SketchCapacity a bounded
+// sketch of them (encode.Sketch: exact until a column holds more values,
+// then within its stated rank error).
+func summarize(c *Config, col *tabular.Column, rows []int) *encode.Summary {
+	if c.SketchCapacity <= 0 {
+		return encode.Summarize(col, rows)
+	}
+	s := encode.NewStreamSummary(col.Name, col.Kind, c.SketchCapacity)
+	s.Add(col, rows)
+	return s
 }
 
 // mergeSummaries adds the summaries and label counts of later rows; a
