@@ -299,21 +299,11 @@ func runFit(ctx context.Context, opts fitOptions, path string, stdin io.Reader, 
 	if study.Fitted.Classifier.Plan.Width() == 0 {
 		fmt.Fprintf(stderr, "deltafit: warning: %s: no input units (the features are ignored, constant or empty): the model gives every row the same class\n", tabular.DisplayName(path))
 	}
-	modelPath := opts.output
-	if opts.output != "" {
-		modelOpts := opts.learn.modelOptions(opts.input.kinds)
-		modelOpts.Block = opts.stream.block
-		model := export.NewModel(study.Fitted, modelOpts, export.DataInfo{Rows: d.Table.Rows, SHA256: sha})
-		write := func(w io.Writer) error { return export.WriteModel(w, model) }
-		if opts.output == "-" {
-			modelPath = "stdout"
-			err = write(stdout)
-		} else {
-			err = export.WriteFile(opts.output, write)
-		}
-		if err != nil {
-			return err
-		}
+	modelOpts := opts.learn.modelOptions(opts.input.kinds)
+	modelOpts.Block = opts.stream.block
+	modelPath, err := writeModelFile(opts.output, stdout, export.NewModel(study.Fitted, modelOpts, export.DataInfo{Rows: d.Table.Rows, SHA256: sha}))
+	if err != nil {
+		return err
 	}
 	fitReport := export.NewFitReport(study, d, sha, opts.learn.seed, modelPath)
 	if err := studyFigures(fitReport, study, d, learner.Fit, opts, path, sha, positive); err != nil {
@@ -395,4 +385,18 @@ func quoteJoin(labels []string) string {
 		quoted[i] = strconv.Quote(l)
 	}
 	return strings.Join(quoted, " and ")
+}
+
+// writeModelFile writes m to path, atomically, or to stdout when path is
+// "-", and returns the name the report gives it: path, "stdout", or ""
+// when path is "" and nothing is written.
+func writeModelFile(path string, stdout io.Writer, m *export.Model) (string, error) {
+	write := func(w io.Writer) error { return export.WriteModel(w, m) }
+	switch path {
+	case "":
+		return "", nil
+	case "-":
+		return "stdout", write(stdout)
+	}
+	return path, export.WriteFile(path, write)
 }

@@ -288,19 +288,9 @@ func runFitStream(ctx context.Context, opts fitOptions, path string, stdout, std
 	}
 	modelOpts := opts.learn.modelOptions(opts.input.kinds)
 	modelOpts.Block = block
-	modelPath := opts.output
-	if opts.output != "" {
-		model := export.NewModel(fitted, modelOpts, export.DataInfo{Rows: summary.Rows, SHA256: sha})
-		write := func(w io.Writer) error { return export.WriteModel(w, model) }
-		if opts.output == "-" {
-			modelPath = "stdout"
-			err = write(stdout)
-		} else {
-			err = export.WriteFile(opts.output, write)
-		}
-		if err != nil {
-			return err
-		}
+	modelPath, err := writeModelFile(opts.output, stdout, export.NewModel(fitted, modelOpts, export.DataInfo{Rows: summary.Rows, SHA256: sha}))
+	if err != nil {
+		return err
 	}
 	data := export.DataSummary{Source: name, SHA256: sha, Rows: summary.Rows, Features: len(plan.Features), Inputs: plan.Width(),
 		Target: opts.learn.target, Labels: summary.Labels, ClassCounts: summary.Counts}

@@ -34,24 +34,8 @@ type Summary struct {
 
 // Summarize summarises col on rows (0-based; nil means all).
 func Summarize(col *tabular.Column, rows []int) *Summary {
-	if rows == nil {
-		rows = allRows(col.Len())
-	}
-	s := &Summary{Column: col.Name, Kind: col.Kind, Rows: len(rows)}
-	if col.Kind == tabular.Categorical {
-		s.Counts = map[string]int{}
-	}
-	for _, r := range rows {
-		switch {
-		case col.IsMissing(r):
-			s.Missing++
-		case col.Kind == tabular.Categorical:
-			s.Counts[col.Text[r]]++
-		case col.Kind == tabular.Numeric:
-			s.Values = append(s.Values, col.Numbers[r])
-			s.Moments.Add(col.Numbers[r])
-		}
-	}
+	s := &Summary{Column: col.Name, Kind: col.Kind}
+	s.Add(col, rows)
 	return s
 }
 
