@@ -184,6 +184,8 @@ type fitOptions struct {
 	format  string
 	outputs reportOutputs
 	oof     string
+	// csvTextAsIs writes the text cells of a CSV --oof file unguarded.
+	csvTextAsIs bool
 }
 
 func newFitCmd() *cobra.Command {
@@ -214,6 +216,7 @@ beside the majority-class and Hebbian baselines.
 	cmd.Flags().StringVar(&opts.format, "format", "text", "report format: text, json or markdown")
 	opts.outputs.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.oof, "oof", "", "with --folds: write each row's out-of-fold prediction (fold, true and predicted class, scores) to this file: .csv, .jsonl, .arrow or .parquet")
+	addCSVTextAsIs(cmd.Flags(), &opts.csvTextAsIs)
 	return cmd
 }
 
