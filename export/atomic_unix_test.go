@@ -16,6 +16,7 @@ import (
 	"strings"
 	"syscall"
 	"testing"
+	"time"
 )
 
 func writeString(s string) func(io.Writer) error {
@@ -122,6 +123,40 @@ func TestWriteFileFIFO(t *testing.T) {
 	}
 	if names := entries(t, filepath.Dir(fifo)); len(names) != 1 {
 		t.Fatalf("the directory holds %v", names)
+	}
+}
+
+// TestCheckWritableFIFO: the check made before any work leaves a named
+// pipe's reader waiting for the output, not at an end of file.
+func TestCheckWritableFIFO(t *testing.T) {
+	fifo := filepath.Join(t.TempDir(), "fifo")
+	if err := syscall.Mkfifo(fifo, 0o600); err != nil {
+		t.Skip(err)
+	}
+	got := make(chan string, 1)
+	go func() {
+		b, _ := os.ReadFile(fifo)
+		got <- string(b)
+	}()
+	wrote := make(chan error, 1)
+	go func() {
+		if err := CheckWritable(fifo); err != nil {
+			wrote <- err
+			return
+		}
+		time.Sleep(200 * time.Millisecond) // the work done between the check and the write
+		wrote <- WriteFile(fifo, writeString("row,predicted\n"))
+	}()
+	select {
+	case err := <-wrote:
+		if err != nil {
+			t.Fatal(err)
+		}
+	case <-time.After(20 * time.Second):
+		t.Fatal("the write found no reader: the check ended the reader's input")
+	}
+	if s := <-got; s != "row,predicted\n" {
+		t.Fatalf("the reader got %q", s)
 	}
 }
 

@@ -23,6 +23,10 @@
 //   - A model file is checked (size cap, schema version, keys that repeat
 //     or differ only in letter case, known rules and encodings, dimensions
 //     within the caps, finite weights) before anything in it is used.
+//   - In CSV output, a text cell that begins with =, +, -, @, a tab or a
+//     carriage return and is not a decimal number is written with a '
+//     before it, so that a spreadsheet does not run it as a formula
+//     (CSVTextAsIs turns this off); numeric columns are never changed.
 //   - The HTML report is one self-contained page: inline CSS and SVG, no
 //     script, nothing fetched; every text from the data is escaped, in the
 //     page and in the plots.

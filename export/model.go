@@ -1,6 +1,7 @@
 package export
 
 import (
+	"bufio"
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -156,15 +157,77 @@ func fileHistory(history []fit.EpochStats) []fit.EpochStats {
 	return out
 }
 
-// WriteModel writes m as indented JSON.
+// WriteModel writes m as indented JSON, the bytes json.MarshalIndent with
+// an indent of two spaces gives. The indented text is written as it is
+// made, not held: a model of many inputs holds megabytes of weights.
 func WriteModel(w io.Writer, m *Model) error {
-	b, err := json.MarshalIndent(m, "", "  ")
+	b, err := json.Marshal(m)
 	if err != nil {
 		return fmt.Errorf("export: %w", err)
 	}
-	b = append(b, '\n')
-	_, err = w.Write(b)
-	return err
+	bw := bufio.NewWriterSize(w, 64<<10)
+	writeIndented(bw, b)
+	bw.WriteByte('\n')
+	return bw.Flush()
+}
+
+// writeIndented writes compact JSON (as json.Marshal writes it: no space
+// outside strings) to w indented as json.Indent indents it with no prefix
+// and two spaces: a line per member and element, ": " after a key, and
+// empty objects and arrays kept as {} and []. Errors are w's, which
+// w.Flush reports.
+func writeIndented(w *bufio.Writer, compact []byte) {
+	depth := 0
+	open := false // after { or [, whose first member may be its end
+	inString, escaped := false, false
+	newline := func() {
+		w.WriteByte('\n')
+		for range depth {
+			w.WriteString("  ")
+		}
+	}
+	for _, c := range compact {
+		if inString {
+			w.WriteByte(c)
+			switch {
+			case escaped:
+				escaped = false
+			case c == '\\':
+				escaped = true
+			case c == '"':
+				inString = false
+			}
+			continue
+		}
+		if open && c != '}' && c != ']' {
+			open = false
+			depth++
+			newline()
+		}
+		switch c {
+		case '"':
+			inString = true
+			w.WriteByte(c)
+		case '{', '[':
+			open = true
+			w.WriteByte(c)
+		case ',':
+			w.WriteByte(c)
+			newline()
+		case ':':
+			w.WriteString(": ")
+		case '}', ']':
+			if open {
+				open = false
+			} else {
+				depth--
+				newline()
+			}
+			w.WriteByte(c)
+		default:
+			w.WriteByte(c)
+		}
+	}
 }
 
 // ErrModel is wrapped by every error about a model file's contents.

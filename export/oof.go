@@ -14,8 +14,8 @@ import (
 // row (the row's 1-based number in the input), repeat and fold (that held
 // it out, from 1), class (its true class), predicted and score_LABEL for
 // each class, the scores as predict writes them. file names the data in
-// errors.
-func WriteOutOfFold(w io.Writer, format TableFormat, file string, d *tabular.Dataset, oof []evaluate.FoldPredictions) error {
+// errors. opts are as NewPredictionWriter takes them.
+func WriteOutOfFold(w io.Writer, format TableFormat, file string, d *tabular.Dataset, oof []evaluate.FoldPredictions, opts ...TableOption) error {
 	fields := append([]column(nil),
 		intColumn{name: "row"}, intColumn{name: "repeat"}, intColumn{name: "fold"},
 		labelColumn{name: "class"}, labelColumn{name: "predicted"})
@@ -26,7 +26,7 @@ func WriteOutOfFold(w io.Writer, format TableFormat, file string, d *tabular.Dat
 	for i, c := range fields {
 		schema[i] = c.field()
 	}
-	tw, err := newTableWriter(w, format, schema)
+	tw, err := newTableWriter(w, format, schema, opts)
 	if err != nil {
 		return err
 	}

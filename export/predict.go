@@ -11,9 +11,10 @@ import (
 )
 
 // WritePredictionsCSV writes a header and one line per row: the 1-based row
-// number, the predicted label and one score column per class.
-func WritePredictionsCSV(w io.Writer, p *model.Predictions) error {
-	pw, err := NewPredictionWriter(w, TableCSV, "", p.Labels, nil)
+// number, the predicted label and one score column per class. opts are as
+// NewPredictionWriter takes them.
+func WritePredictionsCSV(w io.Writer, p *model.Predictions, opts ...TableOption) error {
+	pw, err := NewPredictionWriter(w, TableCSV, "", p.Labels, nil, opts...)
 	if err != nil {
 		return err
 	}
@@ -36,14 +37,15 @@ type PredictionWriter struct {
 
 // NewPredictionWriter returns a writer of predictions of the given class
 // labels with the kept columns keep (fields from KeepField) first. file
-// names the input in errors about its cells.
-func NewPredictionWriter(w io.Writer, format TableFormat, file string, labels []string, keep []arrow.Field) (*PredictionWriter, error) {
+// names the input in errors about its cells. In CSV, text cells are
+// guarded against formula injection unless opts say CSVTextAsIs(true).
+func NewPredictionWriter(w io.Writer, format TableFormat, file string, labels []string, keep []arrow.Field, opts ...TableOption) (*PredictionWriter, error) {
 	fields := append([]arrow.Field(nil), keep...)
 	fields = append(fields, intColumn{name: "row"}.field(), labelColumn{name: "predicted"}.field())
 	for _, l := range labels {
 		fields = append(fields, floatColumn{name: "score_" + l}.field())
 	}
-	tw, err := newTableWriter(w, format, fields)
+	tw, err := newTableWriter(w, format, fields, opts)
 	if err != nil {
 		return nil, err
 	}
@@ -87,8 +89,8 @@ type PatternWriter struct {
 // NewPatternWriter returns a writer of patterns of the named units, with
 // the kept columns keep (fields from KeepField) first and the target
 // column named target last ("" for none). file names the input in errors
-// about its cells.
-func NewPatternWriter(w io.Writer, format TableFormat, file string, units []string, target string, keep []arrow.Field) (*PatternWriter, error) {
+// about its cells. opts are as NewPredictionWriter takes them.
+func NewPatternWriter(w io.Writer, format TableFormat, file string, units []string, target string, keep []arrow.Field, opts ...TableOption) (*PatternWriter, error) {
 	fields := append([]arrow.Field(nil), keep...)
 	for _, u := range units {
 		fields = append(fields, floatColumn{name: u}.field())
@@ -96,7 +98,7 @@ func NewPatternWriter(w io.Writer, format TableFormat, file string, units []stri
 	if target != "" {
 		fields = append(fields, tableColumn{col: &tabular.Column{Name: target}}.field())
 	}
-	tw, err := newTableWriter(w, format, fields)
+	tw, err := newTableWriter(w, format, fields, opts)
 	if err != nil {
 		return nil, err
 	}

@@ -62,6 +62,79 @@ type column interface {
 	array(mem memory.Allocator, n int) arrow.Array
 }
 
+// TableOption sets an option of the table writers (NewPredictionWriter,
+// NewPatternWriter, WriteOutOfFold).
+type TableOption func(*tableConfig)
+
+type tableConfig struct {
+	csvTextAsIs bool
+}
+
+// CSVTextAsIs(true) writes the text cells of CSV output as they are. By
+// default (false) the CSV writers guard every text cell (a label, a kept
+// text column, a target cell, a column name) that begins with =, +, -, @,
+// a tab or a carriage return and is not a decimal number: they write it
+// with a ' before it, so that a spreadsheet opening the file shows the
+// text instead of evaluating it as a formula (common practice against
+// formula injection in CSV files; the list of characters from memory). A
+// decimal number such as -1 or +0.5 in a text cell stays as it is, as a
+// spreadsheet reads it as that number; numeric columns are never changed,
+// nor is any other format than CSV.
+func CSVTextAsIs(asIs bool) TableOption {
+	return func(c *tableConfig) { c.csvTextAsIs = asIs }
+}
+
+// formulaLike reports whether a CSV text cell is guarded (CSVTextAsIs).
+func formulaLike(text []byte) bool {
+	if len(text) == 0 {
+		return false
+	}
+	switch text[0] {
+	case '=', '@', '\t', '\r':
+		return true
+	case '+', '-':
+		return !isDecimal(text)
+	}
+	return false
+}
+
+// isDecimal reports whether b is a decimal number: an optional sign,
+// digits with at most one decimal point (at least one digit), and an
+// optional exponent (e or E, an optional sign, digits).
+func isDecimal(b []byte) bool {
+	i := 0
+	if i < len(b) && (b[i] == '+' || b[i] == '-') {
+		i++
+	}
+	digits, point := 0, false
+	for ; i < len(b); i++ {
+		if c := b[i]; c >= '0' && c <= '9' {
+			digits++
+		} else if c == '.' && !point {
+			point = true
+		} else {
+			break
+		}
+	}
+	if digits == 0 {
+		return false
+	}
+	if i < len(b) && (b[i] == 'e' || b[i] == 'E') {
+		i++
+		if i < len(b) && (b[i] == '+' || b[i] == '-') {
+			i++
+		}
+		start := i
+		for i < len(b) && b[i] >= '0' && b[i] <= '9' {
+			i++
+		}
+		if i == start {
+			return false
+		}
+	}
+	return i == len(b)
+}
+
 // tableWriter writes batches of columns in a TableFormat. The CSV header
 // and the Arrow and Parquet preambles are written with the first batch
 // (or by close, for a table of no rows).
@@ -70,17 +143,23 @@ type tableWriter struct {
 	w       io.Writer
 	schema  *arrow.Schema
 	mem     memory.Allocator
+	config  tableConfig
 	started bool
 	buf     []byte
+	guarded []byte            // CSV: a text cell with its guard
 	keys    [][]byte          // JSONL: each column's `"name":`, with its separator
 	labels  map[string][]byte // CSV: labels as fields
 	ipc     *ipc.Writer
 	pq      *pqarrow.FileWriter
 }
 
-func newTableWriter(w io.Writer, format TableFormat, fields []arrow.Field) (*tableWriter, error) {
+func newTableWriter(w io.Writer, format TableFormat, fields []arrow.Field, opts []TableOption) (*tableWriter, error) {
 	if _, err := ParseTableFormat(string(format)); err != nil {
 		return nil, err
+	}
+	var config tableConfig
+	for _, o := range opts {
+		o(&config)
 	}
 	seen := make(map[string]bool, len(fields))
 	for _, f := range fields {
@@ -89,7 +168,7 @@ func newTableWriter(w io.Writer, format TableFormat, fields []arrow.Field) (*tab
 		}
 		seen[f.Name] = true
 	}
-	return &tableWriter{format: format, w: w, schema: arrow.NewSchema(fields, nil), mem: memory.DefaultAllocator}, nil
+	return &tableWriter{format: format, w: w, schema: arrow.NewSchema(fields, nil), mem: memory.DefaultAllocator, config: config}, nil
 }
 
 // start writes what comes before the rows.
@@ -102,7 +181,7 @@ func (tw *tableWriter) start() error {
 			if i > 0 {
 				b = append(b, ',')
 			}
-			b = appendCSVField(b, []byte(f.Name))
+			b = tw.appendCSVText(b, []byte(f.Name))
 		}
 		tw.buf = append(b, '\n')
 		return tw.flush()
@@ -179,6 +258,11 @@ func (tw *tableWriter) write(cols []column, n int, cellError func(col, row int, 
 const textFlushBytes = 64 << 10
 
 func (tw *tableWriter) writeCSV(cols []column, n int) error {
+	text := make([]bool, len(cols)) // the columns of text, whose cells are guarded
+	for j, c := range cols {
+		id := c.field().Type.ID()
+		text[j] = id == arrow.STRING || id == arrow.LARGE_STRING
+	}
 	var cell []byte
 	for i := range n {
 		for j, col := range cols {
@@ -191,8 +275,13 @@ func (tw *tableWriter) writeCSV(cols []column, n int) error {
 			case labelColumn:
 				tw.buf = append(tw.buf, tw.csvLabel(c.labels[c.index[i]])...)
 			default:
-				cell, _ = c.appendText(cell[:0], i)
-				tw.buf = appendCSVField(tw.buf, cell)
+				var missing bool
+				cell, missing = c.appendText(cell[:0], i)
+				if text[j] && !missing {
+					tw.buf = tw.appendCSVText(tw.buf, cell)
+				} else {
+					tw.buf = appendCSVField(tw.buf, cell)
+				}
 			}
 		}
 		tw.buf = append(tw.buf, '\n')
@@ -239,18 +328,29 @@ func (tw *tableWriter) writeJSONL(cols []column, n int, cellError func(col, row 
 	return tw.flush()
 }
 
-// csvLabel returns a label as a CSV field, quoted if it needs to be,
-// from the writer's cache.
+// csvLabel returns a label as a CSV field, guarded and quoted if it needs
+// to be, from the writer's cache.
 func (tw *tableWriter) csvLabel(label string) []byte {
 	field, ok := tw.labels[label]
 	if !ok {
 		if tw.labels == nil {
 			tw.labels = map[string][]byte{}
 		}
-		field = appendCSVField(nil, []byte(label))
+		field = tw.appendCSVText(nil, []byte(label))
 		tw.labels[label] = field
 	}
 	return field
+}
+
+// appendCSVText appends a text cell to dst as a CSV field: guarded (see
+// CSVTextAsIs) unless the writer writes text as is, then quoted if it
+// needs to be.
+func (tw *tableWriter) appendCSVText(dst, text []byte) []byte {
+	if !tw.config.csvTextAsIs && formulaLike(text) {
+		tw.guarded = append(append(tw.guarded[:0], '\''), text...)
+		text = tw.guarded
+	}
+	return appendCSVField(dst, text)
 }
 
 // close ends the table: the CSV header of a table of no rows, the end of

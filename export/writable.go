@@ -12,8 +12,10 @@ import (
 // path: it is not a directory, and its directory exists and takes a new
 // file. It creates and removes the kind of temporary file WriteFile would
 // write (registered, so a signal removes it too). A path written through
-// (a device, FIFO, socket or descriptor path) is checked for writing by
-// opening it, which does not change it. Errors name path as given.
+// (a device, socket or descriptor path) is checked for writing by opening
+// it, which does not change it; a FIFO by its permissions only, as its
+// reader would take the closing of a check for the end of the output.
+// Errors name path as given.
 func CheckWritable(path string) error {
 	target, info, through, err := outputTarget(path)
 	if err != nil {
@@ -21,6 +23,14 @@ func CheckWritable(path string) error {
 	}
 	if info != nil && info.IsDir() {
 		return fmt.Errorf("export: cannot write %s: it is a directory; give a file name", path)
+	}
+	if through && info != nil && info.Mode()&fs.ModeNamedPipe != 0 {
+		// Opening a FIFO and closing it would hand its reader an end of
+		// file before the output is written.
+		if err := checkAccessWrite(target); err != nil {
+			return fmt.Errorf("export: cannot write %s: %w", path, unwrapPath(err))
+		}
+		return nil
 	}
 	if through {
 		f, err := os.OpenFile(path, os.O_WRONLY|os.O_APPEND, 0)

@@ -54,13 +54,14 @@ func NewTableReader(name string, rr array.RecordReader, columns []string, opts R
 	}
 	r := &TableReader{name: name, rr: rr, opts: opts, all: all, schema: rr.Schema(),
 		batches: make(chan arrow.RecordBatch, readAhead), stop: make(chan struct{})}
+	position := make(map[string]int, len(all)) // a column's first position, looked up once per name asked for
+	for i := len(all) - 1; i >= 0; i-- {
+		position[all[i].name] = i
+	}
 	for _, c := range columns {
-		for i, b := range all {
-			if b.name == c {
-				r.builders = append(r.builders, b)
-				r.index = append(r.index, i)
-				break
-			}
+		if i, ok := position[c]; ok {
+			r.builders = append(r.builders, all[i])
+			r.index = append(r.index, i)
 		}
 	}
 	go r.readAhead()

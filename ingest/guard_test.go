@@ -119,7 +119,7 @@ func TestReadCSVMultiByteDelimiter(t *testing.T) {
 	}
 }
 
-// TestReadCSVWideBatches: a wide table is read in batches of at most 2^16
+// TestReadCSVWideBatches: a wide table is read in batches of at most 2^19
 // cells (one row at least), and a header over MaxColumns is refused.
 func TestReadCSVWideBatches(t *testing.T) {
 	for _, columns := range []int{5, 5000, 100_000} {
@@ -145,7 +145,7 @@ func TestReadCSVWideBatches(t *testing.T) {
 			rows := 0
 			for rr.Next() {
 				n := int(rr.RecordBatch().NumRows())
-				if n > 1 && n*columns > 1<<16 {
+				if n > 1 && n*columns > 1<<19 {
 					t.Fatalf("a batch of %d rows × %d columns", n, columns)
 				}
 				rows += n

@@ -9,7 +9,6 @@ import (
 	"fmt"
 	"io"
 	"runtime"
-	"slices"
 	"strings"
 	"sync/atomic"
 	"unicode/utf8"
@@ -18,7 +17,6 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
-	arrowcsv "github.com/apache/arrow-go/v18/arrow/csv"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet"
@@ -310,25 +308,7 @@ func newCSVReader(name string, br *bufio.Reader, opts ReadOptions) (array.Record
 	for i := range names {
 		fields[i] = arrow.Field{Name: names[i], Type: arrow.BinaryTypes.String, Nullable: true}
 	}
-	rdr := arrowcsv.NewReader(br, arrow.NewSchema(fields, nil),
-		arrowcsv.WithHeader(true),
-		arrowcsv.WithComma(delim),
-		arrowcsv.WithChunk(csvBatchRows(opts.batchRows(), len(names))),
-		arrowcsv.WithNullReader(true, append(slices.Clone(NullValues), opts.Missing...)...),
-		arrowcsv.WithAllocator(opts.allocator()))
-	return rdr, nil
-}
-
-// maxBatchCells bounds the cells of one CSV record batch: the Arrow
-// reader reserves room for a batch's rows in every column before reading
-// them, so a wide table gets fewer rows per batch.
-const maxBatchCells = 1 << 16
-
-// csvBatchRows is the number of rows per batch for a table of the given
-// width: rows, or fewer so that a batch holds at most maxBatchCells cells
-// (at least one row).
-func csvBatchRows(rows, columns int) int {
-	return max(1, min(rows, maxBatchCells/max(columns, 1)))
+	return newCSVRecordReader(br, arrow.NewSchema(fields, nil), delim, csvBatchRows(opts.batchRows(), len(names)), csvNulls(opts)), nil
 }
 
 // peekHeader parses the header record without consuming it, so the Arrow

@@ -118,7 +118,7 @@ func runEncode(ctx context.Context, opts encodeOptions, args []string, stdin io.
 	}
 	defer fitted.kept.release()
 	return opts.out.write(stdout, func(w io.Writer, flush func() error) error {
-		return fitted.write(w, flush, format, path)
+		return fitted.write(w, flush, format, path, opts.out.tableOptions())
 	})
 }
 
@@ -236,13 +236,14 @@ func fitEncoding(ctx context.Context, opts encodeOptions, path string, stdin io.
 	return f, nil
 }
 
-// write writes the fitted encoding of its rows, a block at a time.
-func (f *fittedEncoding) write(w io.Writer, flush func() error, format export.TableFormat, path string) error {
+// write writes the fitted encoding of its rows, a block at a time, with
+// the writer's options writeOpts.
+func (f *fittedEncoding) write(w io.Writer, flush func() error, format export.TableFormat, path string, writeOpts []export.TableOption) error {
 	target := ""
 	if f.target != nil {
 		target = f.target.Name
 	}
-	pw, err := export.NewPatternWriter(w, format, path, f.plan.UnitNames(), target, f.kept.fields)
+	pw, err := export.NewPatternWriter(w, format, path, f.plan.UnitNames(), target, f.kept.fields, writeOpts...)
 	if err != nil {
 		return usagef("--keep: %v", err)
 	}
@@ -307,7 +308,7 @@ func encodeWithModel(opts encodeOptions, format export.TableFormat, path string,
 	}
 	var stats encode.Stats
 	err = opts.out.write(stdout, func(w io.Writer, flush func() error) error {
-		pw, err := export.NewPatternWriter(w, format, path, plan.UnitNames(), target, keepFields)
+		pw, err := export.NewPatternWriter(w, format, path, plan.UnitNames(), target, keepFields, opts.out.tableOptions()...)
 		if err != nil {
 			return usagef("--keep: %v", err)
 		}

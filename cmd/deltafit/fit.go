@@ -185,6 +185,8 @@ type fitOptions struct {
 	outputs reportOutputs
 	oof     string
 	stream  streamFlags
+	// csvTextAsIs writes the text cells of a CSV --oof file unguarded.
+	csvTextAsIs bool
 }
 
 func newFitCmd() *cobra.Command {
@@ -226,6 +228,7 @@ the encoding (--numeric auto) or read stdin.
 	opts.outputs.add(cmd.Flags())
 	cmd.Flags().StringVar(&opts.oof, "oof", "", "with --folds: write each row's out-of-fold prediction (fold, true and predicted class, scores) to this file: .csv, .jsonl, .arrow or .parquet")
 	opts.stream.add(cmd.Flags())
+	addCSVTextAsIs(cmd.Flags(), &opts.csvTextAsIs)
 	return cmd
 }
 

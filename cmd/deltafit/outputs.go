@@ -155,7 +155,7 @@ func writeStudyOutputs(r *export.FitReport, s *evaluate.Study, d *tabular.Datase
 			return err
 		}
 		if err := export.WriteFile(opts.oof, func(w io.Writer) error {
-			return export.WriteOutOfFold(w, format, d.Table.Name, d, s.Main.OutOfFold)
+			return export.WriteOutOfFold(w, format, d.Table.Name, d, s.Main.OutOfFold, export.CSVTextAsIs(opts.csvTextAsIs))
 		}); err != nil {
 			return err
 		}

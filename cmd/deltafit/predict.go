@@ -137,7 +137,7 @@ func runPredict(_ context.Context, opts predictOptions, path string, stdin io.Re
 		return in.Err()
 	}
 	err = opts.out.write(stdout, func(w io.Writer, flush func() error) error {
-		pw, err := export.NewPredictionWriter(w, format, path, m.Labels, keepFields)
+		pw, err := export.NewPredictionWriter(w, format, path, m.Labels, keepFields, opts.out.tableOptions()...)
 		if err != nil {
 			return usagef("--keep: %v", err)
 		}

@@ -174,15 +174,23 @@ func progressTo(stdout, stderr io.Writer, toFile bool) io.Writer {
 // tableOutput are the output flags of the commands that write tables of
 // rows (predict, encode).
 type tableOutput struct {
-	output string
-	format string
-	keep   []string
+	output      string
+	format      string
+	keep        []string
+	csvTextAsIs bool
 }
 
 func (o *tableOutput) add(fs *pflag.FlagSet, what string) {
 	fs.StringVarP(&o.output, "output", "o", "", "write the "+what+" here, atomically, instead of to stdout (- is stdout)")
 	fs.StringVar(&o.format, "format", string(export.TableCSV), "output format: csv, jsonl (JSON Lines), arrow (an Arrow IPC stream) or parquet")
 	fs.StringSliceVar(&o.keep, "keep", nil, "input columns to copy into the output, first, with their types, such as an id (comma-separated)")
+	addCSVTextAsIs(fs, &o.csvTextAsIs)
+}
+
+// addCSVTextAsIs adds --csv-text-as-is, which every command that writes
+// CSV takes.
+func addCSVTextAsIs(fs *pflag.FlagSet, asIs *bool) {
+	fs.BoolVar(asIs, "csv-text-as-is", false, "in CSV output, write text cells as they are; by default a text cell beginning with =, +, -, @, tab or CR that is not a number gets a ' before it, so that a spreadsheet does not run it as a formula")
 }
 
 // tableFormat checks --format and --keep.
@@ -200,6 +208,11 @@ func (o *tableOutput) tableFormat() (export.TableFormat, error) {
 		}
 	}
 	return format, nil
+}
+
+// tableOptions are the writers' options the flags give.
+func (o *tableOutput) tableOptions() []export.TableOption {
+	return []export.TableOption{export.CSVTextAsIs(o.csvTextAsIs)}
 }
 
 // toFile reports whether the output goes to a file rather than stdout.
