@@ -148,7 +148,8 @@ var (
 // io.ReaderAt and io.Seeker they are buffered in memory first; CSV and Arrow
 // IPC streams are read as they arrive.
 func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
-	opts.Allocator = newCappedAllocator(opts.allocator(), MaxReaderBytes)
+	scope := newBatchScope(newCappedAllocator(opts.allocator(), MaxReaderBytes))
+	opts.Allocator = scope
 	rr, err := newRecordReader(name, r, opts)
 	if err != nil {
 		var de *tabular.DataError
@@ -160,7 +161,7 @@ func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordRe
 		}
 		return nil, de
 	}
-	return &guardedReader{RecordReader: rr}, nil
+	return &guardedReader{RecordReader: rr, scope: scope}, nil
 }
 
 func newRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
@@ -250,7 +251,8 @@ func decoderError(err error) error {
 // decoderError.
 type guardedReader struct {
 	array.RecordReader
-	err error
+	scope *batchScope // the reader's allocator
+	err   error
 }
 
 func (g *guardedReader) Next() bool {
@@ -258,10 +260,12 @@ func (g *guardedReader) Next() bool {
 		return false
 	}
 	next := false
+	g.scope.begin()
 	g.err = decode(func() error {
 		next = g.RecordReader.Next()
 		return nil
 	})
+	g.scope.end(g.err != nil || !next && g.RecordReader.Err() != nil)
 	return next && g.err == nil
 }
 
