@@ -6,6 +6,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -57,6 +58,7 @@ type fitOptions struct {
 
 	tolerance         float64
 	stopWhenSeparated bool
+	l2, decay         float64
 }
 
 // beamFlags are Beam's pipeline options offered by fit and cv, passed
@@ -104,6 +106,8 @@ passes over the data.
 	fs.IntVar(&opts.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
 	fs.Float64Var(&opts.tolerance, "tolerance", fit.DefaultTolerance, "stop once the best loss has fallen by at most this fraction of itself over the last 10 epochs")
 	fs.BoolVar(&opts.stopWhenSeparated, "stop-when-separated", false, "stop at the first epoch with no training errors; by default training goes on, as deltafit fit's")
+	fs.Float64Var(&opts.l2, "l2", 0, "weight decay λ: every update first shrinks the weights by 1 − rate·λ")
+	fs.Float64Var(&opts.decay, "decay", 0, "lower the rate epoch by epoch: epoch e trains at rate/(1 + decay·(e−1))")
 	fs.StringVar(&opts.rate, "rate", "auto", `learning rate: a positive number, or "auto" to derive it from the inputs`)
 	fs.Uint64Var(&opts.seed, "seed", 1, "seed of the folds and of the averaged mode's row orders")
 	fs.StringVar(&opts.delimiter, "delimiter", ",", `CSV field delimiter: one character, or "tab"`)
@@ -207,6 +211,15 @@ func (o fitOptions) config() (*pipeline.Config, error) {
 	if o.missing != "indicator" && o.missing != "drop" {
 		return nil, usagef(`--missing %q: give "indicator" or "drop"`, o.missing)
 	}
+	if !(o.l2 >= 0) || math.IsInf(o.l2, 0) {
+		return nil, usagef("--l2 %v: give 0 or a positive number", o.l2)
+	}
+	if !(o.decay >= 0) || math.IsInf(o.decay, 0) {
+		return nil, usagef("--decay %v: give 0 or a positive number", o.decay)
+	}
+	if o.rule == "hebbian" && (o.l2 != 0 || o.decay != 0) {
+		return nil, usagef("--l2 and --decay apply to the delta rule; --rule hebbian makes one pass")
+	}
 	if !(o.tolerance >= 0) {
 		return nil, usagef("--tolerance %v: give 0 or a positive fraction", o.tolerance)
 	}
@@ -222,6 +235,7 @@ func (o fitOptions) config() (*pipeline.Config, error) {
 		Rule: o.rule, Unit: o.unit, Epochs: o.epochs, Seed: o.seed, Mode: o.mode,
 		Folds: o.folds, BlockRows: o.blockRows, Work: o.work,
 		Tolerance: o.tolerance, KeepGoing: !o.stopWhenSeparated, SketchCapacity: o.sketch,
+		L2: o.l2, Decay: o.decay,
 	}
 	switch d := o.delimiter; {
 	case d == "tab" || d == `\t`:

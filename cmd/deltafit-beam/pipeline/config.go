@@ -57,6 +57,8 @@ type Config struct {
 	Rate      float64 // 0 means automatic
 	Tolerance float64 // of the loss-change stop rule; 0 means fit.DefaultTolerance
 	KeepGoing bool    // do not stop at zero training errors
+	L2        float64 // weight decay λ (fit.Options.L2)
+	Decay     float64 // the rate of epoch e is Rate/(1 + Decay·(e−1)) (fit.Options.Decay)
 	Seed      uint64  // of the folds and the averaged mode's row orders
 	Mode      string  // ModeBatch (default) or ModeAveraged
 
@@ -238,7 +240,7 @@ func (c *Config) FitOptions() (fit.Options, error) {
 	}
 	return fit.Options{
 		Rule: rule, Unit: unit, Epochs: c.epochs(), Rate: c.Rate,
-		Tolerance: c.Tolerance, KeepGoing: c.KeepGoing, Seed: c.Seed,
+		Tolerance: c.Tolerance, KeepGoing: c.KeepGoing, Seed: c.Seed, L2: c.L2, Decay: c.Decay,
 		Batch: c.mode() == ModeBatch, Stop: c.stopRules(),
 		// Parameter mixing averages the blocks' last iterates, not one
 		// run's iterates over its last epochs.

@@ -567,3 +567,42 @@ func TestSketchedPlan(t *testing.T) {
 		t.Errorf("warnings %q, want one about the sketched cuts", s.Warnings)
 	}
 }
+
+// Weight decay and a decaying rate train as in fit.Train (Iris, Fisher
+// 1936): in batch mode the weights after the last epoch equal the local
+// batch fit's, and in averaged mode on one block the local online fit's
+// last iterate, each within 1e-9 relative.
+func TestL2AndDecayAsLocal(t *testing.T) {
+	path := filepath.Join(testdata, "iris.csv")
+	for _, mode := range []string{ModeBatch, ModeAveraged} {
+		t.Run(mode, func(t *testing.T) {
+			c := runConfig(t, path, "species")
+			c.Mode, c.Epochs, c.KeepGoing, c.L2, c.Decay, c.Seed = mode, 15, true, 0.05, 0.2, 3
+			s := run(t, c)
+			d := localDataset(t, path, "species", c)
+			values, _ := s.Plans[0].EncodeTo(nil, d.Features, nil)
+			opts, err := c.FitOptions()
+			if err != nil {
+				t.Fatal(err)
+			}
+			res, err := fit.Train(fit.Patterns{Width: s.Plans[0].Width(), Values: values}, d.Classes, len(d.Labels), opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			m := s.Models[0]
+			if len(m.History) != len(res.History) || relDiff(m.Rate, res.Rate) > 1e-12 {
+				t.Fatalf("%d epochs at rate %v, local %d at %v", len(m.History), m.Rate, len(res.History), res.Rate)
+			}
+			worst := 0.0
+			for j, w := range res.Network.Weights {
+				for i := range w {
+					worst = math.Max(worst, relDiff(m.Network.Weights[j][i], w[i]))
+				}
+				worst = math.Max(worst, relDiff(m.Network.Biases[j], res.Network.Biases[j]))
+			}
+			if worst > 1e-9 {
+				t.Errorf("weights differ from the local fit by %.3g relative, want at most 1e-9", worst)
+			}
+		})
+	}
+}

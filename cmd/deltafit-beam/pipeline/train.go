@@ -115,7 +115,7 @@ func epochBlock(c *Config, s *State, d *blockData) ([]epochPartial, error) {
 			part.Correlation.AddRows(p, rows)
 		}
 		if averaged && m.RateSet && part.Rows > 0 {
-			net := onlineEpoch(m.Network, rule, m.Rate, p, d.classes, rows, blockStream(c, d.block), m.Updates+1)
+			net := onlineEpoch(m.Network, rule, m.epochRate(c), c.L2, p, d.classes, rows, blockStream(c, d.block), m.Updates+1)
 			n := float64(part.Rows)
 			for j, w := range net.Weights {
 				part.Weighted = append(part.Weighted, w...)
@@ -144,7 +144,7 @@ func blockStream(c *Config, b *block) uint64 {
 // seeded with (stream, epoch): Δw_j = rate · Signal(t_j, y_j) · x after
 // each row (Widrow & Hoff 1960), as fit.Train's online epoch, which draws
 // its order from (seed, epoch).
-func onlineEpoch(net *fit.Network, rule fit.Rule, rate float64, p fit.Patterns, classes, rows []int, stream uint64, epoch int) *fit.Network {
+func onlineEpoch(net *fit.Network, rule fit.Rule, rate, l2 float64, p fit.Patterns, classes, rows []int, stream uint64, epoch int) *fit.Network {
 	out := *net
 	out.Weights = make([][]float64, len(net.Weights))
 	for j, w := range net.Weights {
@@ -166,6 +166,12 @@ func onlineEpoch(net *fit.Network, rule fit.Rule, rate float64, p fit.Patterns, 
 	for _, i := range order {
 		x := p.Row(i)
 		outputs = out.OutputsTo(outputs, x)
+		if l2 != 0 {
+			// Every update first shrinks all the weights by 1 − rate·L2.
+			for _, w := range out.Weights {
+				floats.Scale(1-rate*l2, w)
+			}
+		}
 		for j, y := range outputs {
 			step := rate * rule.Signal(target(&out, j, classes[i]), y)
 			if step == 0 {
@@ -335,8 +341,15 @@ func (m *ModelState) step(c *Config, t *epochPartial) error {
 		// fit.Train's one-pass epoch: rate times the summed updates.
 		m.apply(m.Rate, t.Updates)
 	case t.Updates != nil:
-		// fit.Train's batch epoch: rate/N times the summed updates.
-		m.apply(m.Rate/float64(m.TrainRows), t.Updates)
+		// fit.Train's batch epoch: with L2 the weights first shrink by
+		// 1 − rate·L2, then rate/N times the summed updates.
+		rate := m.epochRate(c)
+		if c.L2 != 0 {
+			for _, w := range m.Network.Weights {
+				floats.Scale(1-rate*c.L2, w)
+			}
+		}
+		m.apply(rate/float64(m.TrainRows), t.Updates)
 	case rateKnown && t.Rows > 0:
 		// Parameter mixing: the blocks' weights averaged by row count.
 		n := float64(t.Rows)
@@ -359,6 +372,15 @@ func (m *ModelState) step(c *Config, t *epochPartial) error {
 		m.Trace = append(m.Trace, w)
 	}
 	return nil
+}
+
+// epochRate is the rate of the next epoch, m.Updates+1, lowered by
+// Config.Decay as fit.Train lowers it.
+func (m *ModelState) epochRate(c *Config) float64 {
+	if c.Decay == 0 {
+		return m.Rate
+	}
+	return m.Rate / (1 + c.Decay*float64(m.Updates))
 }
 
 // divergedLoss is the loss past which fit.Train counts a run as diverged.
