@@ -75,6 +75,36 @@ func relDiff(a, b float64) float64 {
 	return d / math.Max(math.Max(math.Abs(a), math.Abs(b)), 1e-300)
 }
 
+// localFit trains fit.Train, with the options c gives it, on the rows of
+// path encoded by the plan the run s fitted on all of them.
+func localFit(t *testing.T, s *State, c *Config, path, target string) *fit.Result {
+	t.Helper()
+	d := localDataset(t, path, target, c)
+	values, _ := s.Plans[0].EncodeTo(nil, d.Features, nil)
+	opts, err := c.FitOptions()
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := fit.Train(fit.Patterns{Width: s.Plans[0].Width(), Values: values}, d.Classes, len(d.Labels), opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res
+}
+
+// worstDiff is the largest relative difference between a weight or bias
+// of got and of want.
+func worstDiff(got, want *fit.Network) float64 {
+	worst := 0.0
+	for j, w := range want.Weights {
+		for i := range w {
+			worst = math.Max(worst, relDiff(got.Weights[j][i], w[i]))
+		}
+		worst = math.Max(worst, relDiff(got.Biases[j], want.Biases[j]))
+	}
+	return worst
+}
+
 // The batch fit in the pipeline equals fit.Train with Options.Batch on the
 // same rows, epoch by epoch: the same plan (exact mode: identical), and
 // weights within 1e-9 relative after every epoch (the sums are added in
@@ -448,29 +478,13 @@ func TestDefaultStopAsLocal(t *testing.T) {
 	c := runConfig(t, path, "species")
 	c.Mode, c.Epochs = ModeBatch, 50
 	s := run(t, c)
-	d := localDataset(t, path, "species", c)
-	values, _ := s.Plans[0].EncodeTo(nil, d.Features, nil)
-	opts, err := c.FitOptions()
-	if err != nil {
-		t.Fatal(err)
-	}
-	res, err := fit.Train(fit.Patterns{Width: s.Plans[0].Width(), Values: values}, d.Classes, len(d.Labels), opts)
-	if err != nil {
-		t.Fatal(err)
-	}
+	res := localFit(t, s, c, path, "species")
 	got := s.Fitted().Result
 	if got.Stop != res.Stop || got.StopRule != res.StopRule || len(got.History) != len(res.History) || got.Epoch != res.Epoch {
 		t.Fatalf("stop %q (%s) at epoch %d of %d, local %q (%s) at %d of %d",
 			got.Stop, got.StopRule, got.Epoch, len(got.History), res.Stop, res.StopRule, res.Epoch, len(res.History))
 	}
-	worst := 0.0
-	for j, w := range res.Network.Weights {
-		for i := range w {
-			worst = math.Max(worst, relDiff(got.Network.Weights[j][i], w[i]))
-		}
-		worst = math.Max(worst, relDiff(got.Network.Biases[j], res.Network.Biases[j]))
-	}
-	if worst > 1e-9 {
+	if worst := worstDiff(got.Network, res.Network); worst > 1e-9 {
 		t.Errorf("weights differ from the local batch fit by %.3g relative, want at most 1e-9", worst)
 	}
 	training := s.Model(export.Options{}).Training
@@ -579,28 +593,12 @@ func TestL2AndDecayAsLocal(t *testing.T) {
 			c := runConfig(t, path, "species")
 			c.Mode, c.Epochs, c.KeepGoing, c.L2, c.Decay, c.Seed = mode, 15, true, 0.05, 0.2, 3
 			s := run(t, c)
-			d := localDataset(t, path, "species", c)
-			values, _ := s.Plans[0].EncodeTo(nil, d.Features, nil)
-			opts, err := c.FitOptions()
-			if err != nil {
-				t.Fatal(err)
-			}
-			res, err := fit.Train(fit.Patterns{Width: s.Plans[0].Width(), Values: values}, d.Classes, len(d.Labels), opts)
-			if err != nil {
-				t.Fatal(err)
-			}
+			res := localFit(t, s, c, path, "species")
 			m := s.Models[0]
 			if len(m.History) != len(res.History) || relDiff(m.Rate, res.Rate) > 1e-12 {
 				t.Fatalf("%d epochs at rate %v, local %d at %v", len(m.History), m.Rate, len(res.History), res.Rate)
 			}
-			worst := 0.0
-			for j, w := range res.Network.Weights {
-				for i := range w {
-					worst = math.Max(worst, relDiff(m.Network.Weights[j][i], w[i]))
-				}
-				worst = math.Max(worst, relDiff(m.Network.Biases[j], res.Network.Biases[j]))
-			}
-			if worst > 1e-9 {
+			if worst := worstDiff(m.Network, res.Network); worst > 1e-9 {
 				t.Errorf("weights differ from the local fit by %.3g relative, want at most 1e-9", worst)
 			}
 		})
