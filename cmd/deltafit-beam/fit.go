@@ -280,6 +280,8 @@ func (o fitOptions) modelOptions() export.Options {
 		Rule: o.rule, Unit: o.unit, Epochs: o.epochs, Rate: o.rate,
 		Numeric: o.numeric, Categorical: o.categorical, Seed: o.seed,
 		Ignore: slices.Clone(o.ignore), Kinds: map[string]string{},
+		Decay: o.decay, L2: o.l2, Batch: o.mode == pipeline.ModeBatch,
+		Tolerance: o.tolerance, Patience: fit.DefaultPatience, StopWhenSeparated: o.stopWhenSeparated,
 	}
 	if m.Ignore == nil {
 		m.Ignore = []string{}
