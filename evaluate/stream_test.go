@@ -52,17 +52,7 @@ func (b *batches) Next() bool {
 	from, to := b.pos, min(b.pos+b.size, b.t.Rows)
 	cur := &tabular.Table{Name: b.t.Name, Rows: to - from}
 	for k, c := range b.t.Columns {
-		s := &tabular.Column{Name: c.Name, Kind: c.Kind, LabelText: c.LabelText}
-		if c.Numbers != nil {
-			s.Numbers = c.Numbers[from:to]
-		}
-		if c.Text != nil {
-			s.Text = c.Text[from:to]
-		}
-		if c.Missing != nil {
-			s.Missing = c.Missing[from:to]
-		}
-		cur.Columns = append(cur.Columns, s)
+		cur.Columns = append(cur.Columns, c.Slice(from, to))
 		cur.ColumnNumbers = append(cur.ColumnNumbers, k+1)
 	}
 	for i := from; i < to; i++ {

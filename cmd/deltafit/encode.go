@@ -261,7 +261,7 @@ func (f *fittedEncoding) write(w io.Writer, flush func() error, format export.Ta
 		values, _ = f.plan.EncodeTo(values, f.features, rows)
 		var targets *tabular.Column
 		if f.target != nil {
-			targets = sliceColumn(f.target, lo, hi)
+			targets = f.target.Slice(lo, hi)
 		}
 		number := func(n int) int { return f.table.RowNumber(lo + n) }
 		if err := pw.Write(values, hi-lo, number, targets, f.kept.arrays, take); err != nil {
@@ -332,7 +332,7 @@ func encodeWithModel(opts encodeOptions, format export.TableFormat, path string,
 				stats.Merge(batchStats)
 				var targets *tabular.Column
 				if target != "" {
-					targets = sliceColumn(t.Column(target), lo, hi)
+					targets = t.Column(target).Slice(lo, hi)
 				}
 				blockKept := make([]arrow.Array, len(kept))
 				for i, a := range kept {
@@ -373,19 +373,4 @@ func rowRange(lo, hi int) []int {
 		rows[i] = lo + i
 	}
 	return rows
-}
-
-// sliceColumn returns rows [lo, hi) of c, sharing its cells.
-func sliceColumn(c *tabular.Column, lo, hi int) *tabular.Column {
-	s := &tabular.Column{Name: c.Name, Kind: c.Kind}
-	if c.Numbers != nil {
-		s.Numbers = c.Numbers[lo:hi]
-	}
-	if c.Text != nil {
-		s.Text = c.Text[lo:hi]
-	}
-	if c.Missing != nil {
-		s.Missing = c.Missing[lo:hi]
-	}
-	return s
 }

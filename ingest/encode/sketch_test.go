@@ -10,22 +10,6 @@ import (
 	"deltafit/internal/fixture"
 )
 
-// batchOf returns rows [from, to) of col as a column of its own, as a
-// TableReader batch holds them.
-func batchOf(col *tabular.Column, from, to int) *tabular.Column {
-	b := &tabular.Column{Name: col.Name, Kind: col.Kind}
-	if col.Numbers != nil {
-		b.Numbers = col.Numbers[from:to]
-	}
-	if col.Text != nil {
-		b.Text = col.Text[from:to]
-	}
-	if col.Missing != nil {
-		b.Missing = col.Missing[from:to]
-	}
-	return b
-}
-
 // streamPlan fits a plan from stream summaries of capacity per level,
 // the rows added in batches of batch rows.
 func streamPlan(t *testing.T, cols []*tabular.Column, batch, capacity int, opts encode.Options) *encode.Plan {
@@ -34,7 +18,7 @@ func streamPlan(t *testing.T, cols []*tabular.Column, batch, capacity int, opts 
 	for i, col := range cols {
 		summaries[i] = encode.NewStreamSummary(col.Name, col.Kind, capacity)
 		for from := 0; from < col.Len(); from += batch {
-			summaries[i].Add(batchOf(col, from, min(from+batch, col.Len())), nil)
+			summaries[i].Add(col.Slice(from, min(from+batch, col.Len())), nil)
 		}
 	}
 	p, err := encode.PlanFromSummaries(summaries, opts)

@@ -72,6 +72,23 @@ func (c *Column) Len() int {
 // IsMissing reports whether row i (0-based) is missing.
 func (c *Column) IsMissing(i int) bool { return c.Missing != nil && c.Missing[i] }
 
+// Slice returns rows [lo, hi) of c as a column of its own that shares c's
+// cells, as a batch of a TableReader holds them. It panics if the range is
+// outside the column.
+func (c *Column) Slice(lo, hi int) *Column {
+	s := *c
+	if c.Numbers != nil {
+		s.Numbers = c.Numbers[lo:hi]
+	}
+	if c.Text != nil {
+		s.Text = c.Text[lo:hi]
+	}
+	if c.Missing != nil {
+		s.Missing = c.Missing[lo:hi]
+	}
+	return &s
+}
+
 // MissingCount is the number of missing cells.
 func (c *Column) MissingCount() int {
 	n := 0
