@@ -22,8 +22,9 @@ type Learner struct {
 
 // DefaultLearner is the learner deltafit fit uses when no flag says
 // otherwise: the auto numeric encoding, one-hot categories, the delta rule
-// on logistic units with averaged online updates at the automatic rate,
-// training on past zero errors until the loss stops falling.
+// on logistic units with averaged online updates at the automatic rate and
+// weight decay fit.DefaultL2, training on past zero errors until the loss
+// stops falling.
 func DefaultLearner(seed uint64) Learner {
 	auto, err := encode.ParseNumericEncoding(encode.Auto)
 	if err != nil {
@@ -32,7 +33,7 @@ func DefaultLearner(seed uint64) Learner {
 	return Learner{
 		Plan: encode.Options{Numeric: auto, Categorical: encode.Encoding{Method: encode.OneHot, Min: 1}},
 		Fit: fit.Options{Rule: fit.Delta{}, Unit: fit.Logistic, Epochs: fit.DefaultEpochs, Seed: seed, KeepGoing: true,
-			Tolerance: fit.DefaultTolerance, Patience: fit.DefaultPatience},
+			L2: fit.DefaultL2, Tolerance: fit.DefaultTolerance, Patience: fit.DefaultPatience},
 	}
 }
 

@@ -64,6 +64,26 @@ func add(x, y []float64) {
 	}
 }
 
+// shrinkAxpyAdd does in one pass what scale(alpha, w), then axpy(step, x,
+// w) unless step is 0, then add(w, sum) do in three, to the bit: each w[i]
+// becomes alpha·w[i] + step·x[i], and sum[i] gains it.
+func shrinkAxpyAdd(alpha, step float64, x, w, sum []float64) {
+	if len(x) != len(w) || len(w) != len(sum) {
+		panic("fit: shrinkAxpyAdd of slices of different lengths")
+	}
+	if step == 0 {
+		for i := range w {
+			w[i] *= alpha
+			sum[i] += w[i]
+		}
+		return
+	}
+	for i := range w {
+		w[i] = float64(alpha*w[i]) + step*x[i] // rounded as scale, then axpy
+		sum[i] += w[i]
+	}
+}
+
 // scale multiplies x by alpha in place.
 func scale(alpha float64, x []float64) {
 	for i := range x {

@@ -64,6 +64,30 @@ func TestKernelsMatchPlainLoops(t *testing.T) {
 	}
 }
 
+// shrinkAxpyAdd gives the bits of the three kernels it stands in for,
+// with and without a step (a zero step skips the axpy, as addRowTo does).
+func TestShrinkAxpyAddMatchesThreeKernels(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for _, n := range []int{0, 1, 5, 64, 513} {
+		x := randomVector(rng, n)
+		for _, step := range []float64{0, -0.0123, 0.731} {
+			w, sum := randomVector(rng, n), randomVector(rng, n)
+			w3, sum3 := append([]float64(nil), w...), append([]float64(nil), sum...)
+			shrinkAxpyAdd(0.9993, step, x, w, sum)
+			scale(0.9993, w3)
+			if step != 0 {
+				axpy(step, x, w3)
+			}
+			add(w3, sum3)
+			for i := range w {
+				if math.Float64bits(w[i]) != math.Float64bits(w3[i]) || math.Float64bits(sum[i]) != math.Float64bits(sum3[i]) {
+					t.Fatalf("n=%d step=%v at %d: w %v sum %v, three kernels %v %v", n, step, i, w[i], sum[i], w3[i], sum3[i])
+				}
+			}
+		}
+	}
+}
+
 func BenchmarkKernels(b *testing.B) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, n := range []int{8, 64, 512} {

@@ -82,6 +82,9 @@ dealt by a hash of each row's file and number, stratified by class.
   deltafit-beam fit '/data/runs/part-*.parquet' --target outcome --runner flink --endpoint localhost:8099 --work /shared/tmp`,
 		Args: cobra.MinimumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if opts.rule == "hebbian" && !cmd.Flags().Changed("l2") {
+				opts.l2 = 0 // the default weight decay is the delta rule's
+			}
 			return runFit(cmd.Context(), opts, cv, args, cmd.OutOrStdout(), cmd.ErrOrStderr())
 		},
 	}
@@ -106,7 +109,7 @@ passes over the data.
 	fs.IntVar(&opts.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
 	fs.Float64Var(&opts.tolerance, "tolerance", fit.DefaultTolerance, "stop once the best loss has fallen by at most this fraction of itself over the last 10 epochs")
 	fs.BoolVar(&opts.stopWhenSeparated, "stop-when-separated", false, "stop at the first epoch with no training errors; by default training goes on, as deltafit fit's")
-	fs.Float64Var(&opts.l2, "l2", 0, "weight decay λ: every update first shrinks the weights by 1 − rate·λ")
+	fs.Float64Var(&opts.l2, "l2", fit.DefaultL2, "weight decay λ: every update first shrinks the weights (not the biases) by 1 − rate·λ; 0 for none, as deltafit fit's")
 	fs.Float64Var(&opts.decay, "decay", 0, "lower the rate epoch by epoch: epoch e trains at rate/(1 + decay·(e−1))")
 	fs.StringVar(&opts.rate, "rate", "auto", `learning rate: a positive number, or "auto" to derive it from the inputs`)
 	fs.Uint64Var(&opts.seed, "seed", 1, "seed of the folds and of the averaged mode's row orders")

@@ -63,7 +63,7 @@ func (f *learnFlags) add(cmd *cobra.Command) {
 	fs.IntVar(&f.epochs, "epochs", fit.DefaultEpochs, "most passes over the training rows")
 	fs.StringVar(&f.rate, "rate", "auto", `learning rate: a positive number, or "auto": online 1/(max‖x̃‖² + l2), half the bound under which every row's update is stable; --batch 1/(λmax + l2)`)
 	fs.Float64Var(&f.decay, "decay", 0, "lower the rate epoch by epoch: epoch e trains at rate/(1 + decay·(e−1)); 0 keeps it constant")
-	fs.Float64Var(&f.l2, "l2", 0, "weight decay λ: each update first shrinks the weights (not the biases) by 1 − rate·λ")
+	fs.Float64Var(&f.l2, "l2", fit.DefaultL2, "weight decay λ: each update first shrinks the weights (not the biases) by 1 − rate·λ; 0 for none")
 	fs.BoolVar(&f.batch, "batch", false, "one update per epoch, the mean of the rows' updates (full-batch gradient descent), instead of one per row")
 	fs.BoolVar(&f.average, "average", true, "online: keep the average of the weights over the last half to three quarters of the epochs; --average=false keeps the last weights")
 	fs.Float64Var(&f.tolerance, "tolerance", fit.DefaultTolerance, "stop once the best loss has fallen by at most this fraction of itself over --patience epochs")
@@ -83,6 +83,15 @@ func isOnePass(rule fit.Rule) bool {
 // given reports whether the flag name was set on the command line.
 func (f *learnFlags) given(name string) bool {
 	return f.flags != nil && f.flags.Changed(name)
+}
+
+// appliedL2 is the weight decay training applies: none for a one-pass
+// rule, which ignores the default.
+func (f *learnFlags) appliedL2() float64 {
+	if rule, err := fit.RuleByName(f.rule); err == nil && isOnePass(rule) {
+		return 0
+	}
+	return f.l2
 }
 
 // learner turns the flags into a Learner, checking every value.
@@ -142,7 +151,7 @@ func (f *learnFlags) learner() (evaluate.Learner, error) {
 	if f.batch && f.given("average") {
 		return l, usagef("--average applies to online training; --batch weights are not averaged")
 	}
-	l.Fit.Decay, l.Fit.L2, l.Fit.Batch, l.Fit.LastIterate = f.decay, f.l2, f.batch, !f.average
+	l.Fit.Decay, l.Fit.L2, l.Fit.Batch, l.Fit.LastIterate = f.decay, f.appliedL2(), f.batch, !f.average
 	l.Fit.Tolerance, l.Fit.Holdout, l.Fit.Patience = f.tolerance, f.holdout, f.patience
 	// Training goes on past zero errors unless asked: on separable rows,
 	// descent on the logistic loss keeps turning the weights toward the
@@ -159,7 +168,7 @@ func (f *learnFlags) modelOptions(kinds []string) export.Options {
 	rule, _ := fit.RuleByName(f.rule)
 	o := export.Options{
 		Rule: f.rule, Unit: f.unit, Epochs: f.epochs, Rate: f.rate,
-		Decay: f.decay, L2: f.l2, Batch: f.batch, Average: f.average && !f.batch && !isOnePass(rule), StopWhenSeparated: f.stopWhenSeparated,
+		Decay: f.decay, L2: f.appliedL2(), Batch: f.batch, Average: f.average && !f.batch && !isOnePass(rule), StopWhenSeparated: f.stopWhenSeparated,
 		Tolerance: f.tolerance, Holdout: f.holdout, Patience: f.patience,
 		Numeric: f.numeric, Categorical: f.categorical, Seed: f.seed,
 		Ignore: slices.Clone(f.ignore), Kinds: map[string]string{},
