@@ -28,9 +28,10 @@ const (
 	// DefaultL2 is the weight decay deltafit fit applies unless told
 	// otherwise (Options.L2 itself defaults to none). A light penalty on
 	// units of unit scale, it steadies the weights of wide encodings from
-	// one training sample to the next: on the open datasets it halves the
-	// spread of cross-validated accuracy over fold seeds on a table of
-	// 5,000 rows and 220 units, for a change of accuracy within ±0.008.
+	// one training sample to the next: on an open table of 5,000 rows
+	// encoded in 220 units it halves the spread of cross-validated accuracy
+	// over seeds (README, "The default against base R's linear model"),
+	// for a mean accuracy 0.0006 lower.
 	DefaultL2 = 1e-3
 	// divergedLoss is the loss past which a run counts as diverged.
 	divergedLoss = 1e12
