@@ -58,15 +58,12 @@ func (l Learner) Train(d *tabular.Dataset, rows []int) (*Fitted, error) {
 // workers measuring each epoch. It returns the store too, so that
 // cross-validation predicts its test rows from the same encoding without
 // encoding them again.
-func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*Fitted, fit.Patterns, error) {
+func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*Fitted, fit.Store, error) {
 	plan, all, choice, err := l.encode(ctx, d, rows, workers)
 	if err != nil {
-		return nil, fit.Patterns{}, err
+		return nil, nil, err
 	}
-	// 0/1 patterns (thermometer, one-hot, threshold, flag) train on the
-	// packed store, to the same bits and faster.
-	store := fit.Compact(all)
-	classes := d.Classes
+	store, classes := all, d.Classes
 	if rows != nil {
 		store, classes = fit.Subset(all, rows), classesOf(d, rows)
 	}
@@ -74,7 +71,7 @@ func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, work
 	opts.Workers = workers
 	res, err := fit.TrainContext(ctx, store, classes, len(d.Labels), opts)
 	if err != nil {
-		return nil, fit.Patterns{}, err
+		return nil, nil, err
 	}
 	c := &model.Classifier{Target: d.Target, Labels: d.Labels, Plan: plan, Network: res.Network}
 	return &Fitted{Classifier: c, Result: res, Encoding: choice}, all, nil
@@ -85,7 +82,7 @@ func (l Learner) train(ctx context.Context, d *tabular.Dataset, rows []int, work
 // row of d with it: the patterns Train trains on, before any training.
 // l.Fit.Workers bounds the goroutines of the choice (0:
 // runtime.GOMAXPROCS(0)); l.Fit.Recorder hears none of its fits.
-func (l Learner) Encode(ctx context.Context, d *tabular.Dataset, rows []int) (*encode.Plan, fit.Patterns, *EncodingChoice, error) {
+func (l Learner) Encode(ctx context.Context, d *tabular.Dataset, rows []int) (*encode.Plan, fit.Store, *EncodingChoice, error) {
 	workers := l.Fit.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
@@ -93,23 +90,54 @@ func (l Learner) Encode(ctx context.Context, d *tabular.Dataset, rows []int) (*e
 	return l.encode(ctx, d, rows, workers)
 }
 
-func (l Learner) encode(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*encode.Plan, fit.Patterns, *EncodingChoice, error) {
+func (l Learner) encode(ctx context.Context, d *tabular.Dataset, rows []int, workers int) (*encode.Plan, fit.Store, *EncodingChoice, error) {
 	var choice *EncodingChoice
 	if l.Plan.Numeric.Method == encode.Auto {
 		var err error
 		if l.Plan.Numeric, choice, err = l.chooseNumeric(ctx, d, rows, workers); err != nil {
-			return nil, fit.Patterns{}, nil, err
+			return nil, nil, nil, err
 		}
 	}
 	plan, err := encode.FitPlan(d.Features, rows, l.Plan)
 	if err != nil {
-		return nil, fit.Patterns{}, nil, err
+		return nil, nil, nil, err
 	}
 	if err := model.CheckSize(len(d.Labels), len(d.Features), plan.Width()); err != nil {
-		return nil, fit.Patterns{}, nil, err
+		return nil, nil, nil, err
+	}
+	return plan, encodeStore(plan, d), choice, nil
+}
+
+// encodeBlock is the rows encodeStore encodes at a time.
+const encodeBlock = 4096
+
+// encodeStore encodes every row of d with plan into the smallest store
+// that trains to the same bits: packed 0/1 patterns (fit.BinaryPatterns)
+// when every unit of every row is 0 or 1 (thermometer, one-hot, threshold,
+// flag and categorical units), packed a block of rows at a time so that
+// the dense patterns are never held whole; else dense patterns.
+func encodeStore(plan *encode.Plan, d *tabular.Dataset) fit.Store {
+	n, width := d.Table.Rows, plan.Width()
+	if packed, ok := fit.NewBinaryPatterns(width, n); ok {
+		var values []float64
+		rows := make([]int, 0, encodeBlock)
+		for from := 0; from < n; from += encodeBlock {
+			rows = rows[:0]
+			for r := from; r < min(from+encodeBlock, n); r++ {
+				rows = append(rows, r)
+			}
+			values, _ = plan.EncodeTo(values, d.Features, rows)
+			if !packed.Append(fit.Patterns{Width: width, Values: values}) {
+				packed = nil
+				break
+			}
+		}
+		if packed != nil {
+			return packed
+		}
 	}
 	values, _ := plan.EncodeTo(nil, d.Features, nil)
-	return plan, fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}, choice, nil
+	return fit.Patterns{Width: width, Values: values, Rows: n}
 }
 
 // classesOf returns the classes of the given rows of d.

@@ -313,3 +313,51 @@ func TestSmallClassesNamesTheClass(t *testing.T) {
 		t.Fatalf("small classes %v, want three, the first %s", small, want)
 	}
 }
+
+// encodeStore packs 0/1 plans a block at a time and keeps other plans
+// dense; either way each row reads back as EncodeTo writes it. Iris has
+// 150 rows, so blocks of encodeBlock rows are tested on a table cut to
+// fewer rows than a block and on one stacked past several blocks.
+func TestEncodeStore(t *testing.T) {
+	iris := irisDataset(t)
+	tall := *iris
+	tall.Table = &tabular.Table{Name: "tall", Rows: 3*encodeBlock + 7}
+	tall.Features = nil
+	for _, c := range iris.Features {
+		col := &tabular.Column{Name: c.Name, Kind: c.Kind}
+		for r := range tall.Table.Rows {
+			col.Numbers = append(col.Numbers, c.Numbers[r%len(c.Numbers)])
+		}
+		tall.Features = append(tall.Features, col)
+	}
+	for _, d := range []*tabular.Dataset{iris, &tall} {
+		for _, tc := range []struct {
+			numeric string
+			packed  bool
+		}{{"thermometer:8", true}, {"onehot:4", true}, {"zscore", false}, {"hybrid:4", false}} {
+			e, err := encode.ParseNumericEncoding(tc.numeric)
+			if err != nil {
+				t.Fatal(err)
+			}
+			plan, err := encode.FitPlan(d.Features, nil, encode.Options{Numeric: e})
+			if err != nil {
+				t.Fatal(err)
+			}
+			store := encodeStore(plan, d)
+			if _, packed := store.(*fit.BinaryPatterns); packed != tc.packed {
+				t.Errorf("%s, %d rows: packed %v, want %v", tc.numeric, d.Table.Rows, packed, tc.packed)
+			}
+			want, _ := plan.EncodeTo(nil, d.Features, nil)
+			width := plan.Width()
+			if store.Len() != d.Table.Rows || store.Inputs() != width {
+				t.Fatalf("%s: store of %d×%d, want %d×%d", tc.numeric, store.Len(), store.Inputs(), d.Table.Rows, width)
+			}
+			row := make([]float64, width)
+			for r := range store.Len() {
+				if got := store.RowTo(row, r); !slices.Equal(got, want[r*width:(r+1)*width]) {
+					t.Fatalf("%s, row %d: %v, EncodeTo %v", tc.numeric, r, got, want[r*width:(r+1)*width])
+				}
+			}
+		}
+	}
+}

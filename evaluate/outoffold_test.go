@@ -131,7 +131,7 @@ func TestRecorderHearsOnlyTheFitReturned(t *testing.T) {
 	if !reflect.DeepEqual(plan, fitted.Classifier.Plan) || !reflect.DeepEqual(choice, fitted.Encoding) {
 		t.Error("Encode fitted another plan than Train")
 	}
-	if patterns.Rows != d.Table.Rows || patterns.Width != plan.Width() {
-		t.Errorf("Encode gave %d×%d patterns, want %d×%d", patterns.Rows, patterns.Width, d.Table.Rows, plan.Width())
+	if patterns.Len() != d.Table.Rows || patterns.Inputs() != plan.Width() {
+		t.Errorf("Encode gave %d×%d patterns, want %d×%d", patterns.Len(), patterns.Inputs(), d.Table.Rows, plan.Width())
 	}
 }

@@ -101,15 +101,13 @@ func TraceFit(ctx context.Context, d *tabular.Dataset, l Learner, steps, top int
 	run, cancel := context.WithCancel(ctx)
 	defer cancel()
 	rec := &traceRecorder{trace: t, rule: rule, d: d, patterns: patterns, steps: steps, top: top, done: cancel,
-		row: make([]float64, patterns.Width)}
+		row: make([]float64, patterns.Inputs())}
 	opts := l.Fit
 	opts.Recorder = rec
 	if opts.Workers <= 0 {
 		opts.Workers = 1
 	}
-	// The store Train trains on: the packed one for 0/1 patterns, which
-	// trains to the same bits.
-	res, err := fit.TrainContext(run, fit.Compact(patterns), d.Classes, len(d.Labels), opts)
+	res, err := fit.TrainContext(run, patterns, d.Classes, len(d.Labels), opts)
 	switch {
 	case err == nil:
 		if len(t.Updates) < steps {
@@ -139,7 +137,7 @@ type traceRecorder struct {
 	trace    *Trace
 	rule     fit.Rule
 	d        *tabular.Dataset
-	patterns fit.Patterns
+	patterns fit.Store
 	steps    int
 	top      int
 	done     context.CancelFunc

@@ -3,6 +3,7 @@ package fit
 import (
 	"fmt"
 	"math"
+	"slices"
 )
 
 // BinaryPatterns is a Store of patterns whose every input is 0 or 1, as
@@ -64,8 +65,30 @@ const maxBinaryWidth = math.MaxUint16
 // value of p is +0 or 1 and its width is between 1 and 65535 inputs;
 // otherwise nil and false.
 func PackBinary(p Patterns) (*BinaryPatterns, bool) {
-	if p.Width <= 0 || p.Width > maxBinaryWidth || len(p.Values)%p.Width != 0 {
+	b, ok := NewBinaryPatterns(p.Width, p.Len())
+	if !ok || !b.Append(p) {
 		return nil, false
+	}
+	return b, true
+}
+
+// NewBinaryPatterns returns empty BinaryPatterns of width inputs with room
+// for rows patterns, for Append to fill, and true; for a width outside 1
+// to 65535 it returns nil and false.
+func NewBinaryPatterns(width, rows int) (*BinaryPatterns, bool) {
+	if width <= 0 || width > maxBinaryWidth {
+		return nil, false
+	}
+	return newBinaryPatterns(width, max(rows, 0), 0), true
+}
+
+// Append adds the patterns of p, as wide as b's, after b's and returns
+// true when every value of p is +0 or 1; otherwise it adds none of them
+// and returns false. A table can so be packed a block of rows at a time,
+// never dense as a whole.
+func (b *BinaryPatterns) Append(p Patterns) bool {
+	if p.Width != b.width || len(p.Values)%p.Width != 0 {
+		return false
 	}
 	ones := 0
 	for _, v := range p.Values {
@@ -74,31 +97,30 @@ func PackBinary(p Patterns) (*BinaryPatterns, bool) {
 			ones++
 		case 0:
 			if math.Signbit(v) {
-				return nil, false // −0: RowTo could not give it back
+				return false // −0: RowTo could not give it back
 			}
 		default:
-			return nil, false
+			return false
 		}
 	}
-	n := p.Len()
-	b := newBinaryPatterns(p.Width, n, ones)
-	for i := range n {
+	b.active = slices.Grow(b.active, ones)
+	for i := range p.Len() {
 		row := p.Row(i)
-		b.appendRow(i, func(k int) bool { return row[k] == 1 })
+		b.appendRow(func(k int) bool { return row[k] == 1 })
 	}
-	return b, true
+	return true
 }
 
-// newBinaryPatterns returns BinaryPatterns of rows patterns of width
-// inputs, with room for ones active inputs, for appendRow to fill.
+// newBinaryPatterns returns BinaryPatterns of width inputs with room for
+// rows patterns and ones active inputs, for appendRow to fill.
 func newBinaryPatterns(width, rows, ones int) *BinaryPatterns {
-	return &BinaryPatterns{width: width, rows: make([]binaryRow, rows), active: make([]uint16, 0, ones), tail: width &^ 3}
+	return &BinaryPatterns{width: width, rows: make([]binaryRow, 0, rows), active: make([]uint16, 0, ones), tail: width &^ 3}
 }
 
-// appendRow sets row i, which must be the next row, to the inputs k for
-// which one(k) is true, in dot's groups.
-func (b *BinaryPatterns) appendRow(i int, one func(k int) bool) {
-	start := len(b.active)
+// appendRow adds a pattern whose inputs k are 1 where one(k) is true, in
+// dot's groups.
+func (b *BinaryPatterns) appendRow(one func(k int) bool) {
+	r := binaryRow{start: len(b.active)}
 	for g := range 4 {
 		for k := g; k < b.tail; k += 4 {
 			if one(k) {
@@ -112,9 +134,9 @@ func (b *BinaryPatterns) appendRow(i int, one func(k int) bool) {
 				}
 			}
 		}
-		b.rows[i].ends[g] = uint16(len(b.active) - start)
+		r.ends[g] = uint16(len(b.active) - r.start)
 	}
-	b.rows[i].start = start
+	b.rows = append(b.rows, r)
 }
 
 // indices returns row i's indices, the whole and its four groups.

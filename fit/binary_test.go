@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"reflect"
+	"slices"
 	"testing"
 )
 
@@ -86,6 +87,43 @@ func TestPackBinaryRefuses(t *testing.T) {
 				t.Error("Compact did not keep the dense store")
 			}
 		})
+	}
+}
+
+// Packing block by block with Append gives the store PackBinary gives the
+// whole; a block that is not all 0/1 is refused and leaves the store as it
+// was.
+func TestAppendBinaryInBlocks(t *testing.T) {
+	p, _ := thermometerPatterns(1000, 5, 7, 3)
+	whole, ok := PackBinary(p)
+	if !ok {
+		t.Fatal("0/1 patterns not packed")
+	}
+	blocks, ok := NewBinaryPatterns(p.Width, 10)
+	if !ok {
+		t.Fatal("NewBinaryPatterns refused a valid width")
+	}
+	for from := 0; from < p.Len(); from += 333 {
+		to := min(from+333, p.Len())
+		if !blocks.Append(Patterns{Width: p.Width, Values: p.Values[from*p.Width : to*p.Width]}) {
+			t.Fatalf("block from row %d refused", from)
+		}
+	}
+	bad := slices.Clone(p.Values[:2*p.Width])
+	bad[len(bad)-1] = 0.5
+	if blocks.Append(Patterns{Width: p.Width, Values: bad}) {
+		t.Error("a block holding 0.5 was packed")
+	}
+	if blocks.Append(Patterns{Width: p.Width + 1, Values: make([]float64, p.Width+1)}) {
+		t.Error("a block of another width was packed")
+	}
+	if !reflect.DeepEqual(blocks.rows, whole.rows) || !slices.Equal(blocks.active, whole.active) {
+		t.Errorf("%d rows packed in blocks differ from PackBinary's %d", blocks.Len(), whole.Len())
+	}
+	for _, width := range []int{0, maxBinaryWidth + 1} {
+		if _, ok := NewBinaryPatterns(width, 1); ok {
+			t.Errorf("NewBinaryPatterns accepted width %d", width)
+		}
 	}
 }
 

@@ -409,7 +409,7 @@ func (s *DiskStore) load(b int) *diskBlock {
 		p := newBinaryPatterns(s.width, m, ones)
 		for i := range m {
 			row := data[i*s.rowBytes : (i+1)*s.rowBytes]
-			p.appendRow(i, func(k int) bool { return row[k>>3]>>(k&7)&1 == 1 })
+			p.appendRow(func(k int) bool { return row[k>>3]>>(k&7)&1 == 1 })
 		}
 		blk.packed = p
 		return blk
