@@ -52,6 +52,12 @@ func NewTableReader(name string, rr array.RecordReader, columns []string, opts R
 	if err != nil {
 		return nil, err
 	}
+	for _, b := range all {
+		// An undeclared text column is read as categorical here (see
+		// Next), so only declared numeric columns are read as numbers.
+		kind, given, _ := b.kindOf(opts)
+		b.textual = !given || kind != tabular.Numeric
+	}
 	r := &TableReader{name: name, rr: rr, opts: opts, all: all, schema: rr.Schema(),
 		batches: make(chan arrow.RecordBatch, readAhead), stop: make(chan struct{})}
 	position := make(map[string]int, len(all)) // a column's first position, looked up once per name asked for

@@ -38,6 +38,10 @@ func Collect(name string, rr array.RecordReader, opts ReadOptions) (*tabular.Tab
 	if err != nil {
 		return nil, err
 	}
+	for _, b := range builders {
+		kind, given, _ := b.kindOf(opts)
+		b.textual, b.copyText = given && kind != tabular.Numeric, true
+	}
 	rows := 0
 	for rr.Next() {
 		rec := rr.RecordBatch()
@@ -142,6 +146,14 @@ func readError(name string, rows int, err error) *tabular.DataError {
 }
 
 // columnBuilder gathers one column's cells across batches.
+//
+// Text cells are read as numbers as they come (into eager), without their
+// text, while every present cell of the column does: a numeric column
+// then never holds a string per cell. The text of a cell that
+// strconv.FormatFloat(x, 'f', -1, 64) would not give back ("1.50",
+// "1e3", an out-of-range number) is kept beside it (odd). At the first
+// present cell that is not a number, the texts of the cells before it are
+// rebuilt, exactly, and the column goes on as text (textual).
 type columnBuilder struct {
 	name    string
 	index   int // 1-based
@@ -154,6 +166,15 @@ type columnBuilder struct {
 	any     bool      // a cell has been appended, fixing the storage type
 	base    int       // rows before the cells held, which reset drops
 
+	textual bool      // text cells are kept as text, not read as numbers
+	eager   []float64 // the numbers of the text cells held, while !textual (0 if missing)
+	odd     []oddCell // cells of eager whose text its number would not give back
+	format  []byte    // FormatFloat's buffer
+	// copyText makes a text column copy its cells out of the reader's
+	// batches (keepText), for a table that outlives them.
+	copyText bool
+	intern   map[string]string // the values copied, so that cells share them
+
 	underflows     int    // nonzero numbers read as 0
 	firstUnderflow int    // 1-based row of the first
 	underflowCell  string // its text
@@ -164,6 +185,79 @@ type columnBuilder struct {
 func (b *columnBuilder) reset() {
 	b.base += len(b.missing)
 	b.text, b.numbers, b.missing = b.text[:0], b.numbers[:0], b.missing[:0]
+	b.eager, b.odd = b.eager[:0], b.odd[:0]
+}
+
+// oddCell is a cell read as a number whose text the number would not give
+// back, and that text.
+type oddCell struct {
+	i    int // in the cells held
+	text string
+}
+
+// maxInterned bounds the distinct values a text column shares between its
+// cells; past it each further value is a copy of its own.
+const maxInterned = 1 << 16
+
+// keepText returns v to hold as a cell of a text column: not the reader's
+// string, which would keep the whole batch it was read from alive, but a
+// copy shared by the column's cells of the same value.
+func (b *columnBuilder) keepText(v string) string {
+	if !b.copyText {
+		return v
+	}
+	if s, ok := b.intern[v]; ok {
+		return s
+	}
+	s := strings.Clone(v)
+	if b.intern == nil {
+		b.intern = make(map[string]string)
+	}
+	if len(b.intern) < maxInterned {
+		b.intern[s] = s
+	}
+	return s
+}
+
+// appendEager reads a text cell as a number while the column is not
+// textual, and reports false, reading nothing, for a cell that is not a
+// number. A number out of range or not finite counts as a number, as
+// inferKind counts it, and keeps its text for finishEager to report.
+func (b *columnBuilder) appendEager(v string, missing bool) bool {
+	if missing {
+		b.eager = append(b.eager, 0)
+		return true
+	}
+	x, err := readFloat(v)
+	if err != nil && !errors.Is(err, strconv.ErrRange) {
+		return false
+	}
+	b.format = strconv.AppendFloat(b.format[:0], x, 'f', -1, 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) || string(b.format) != v {
+		b.odd = append(b.odd, oddCell{i: len(b.eager), text: strings.Clone(v)})
+	}
+	b.eager = append(b.eager, x)
+	return true
+}
+
+// toText makes the column textual, rebuilding the texts of the cells read
+// as numbers.
+func (b *columnBuilder) toText() {
+	b.textual = true
+	b.text = slices.Grow(b.text[:0], len(b.eager))
+	odd := b.odd
+	for i, x := range b.eager {
+		switch {
+		case b.missing[i]:
+			b.text = append(b.text, "")
+		case len(odd) > 0 && odd[0].i == i:
+			b.text = append(b.text, odd[0].text)
+			odd = odd[1:]
+		default:
+			b.text = append(b.text, b.keepText(strconv.FormatFloat(x, 'f', -1, 64)))
+		}
+	}
+	b.eager, b.odd = b.eager[:0], b.odd[:0]
 }
 
 // kindOf returns the kind opts gives the column, whether it gives one and
@@ -323,6 +417,18 @@ func (b *columnBuilder) appendText(v string, row int) *tabular.DataError {
 	if !utf8.ValidString(v) {
 		return b.fail(row, errors.New("the cell is not valid UTF-8 text; re-save the file as UTF-8"))
 	}
+	missing := b.missing[len(b.missing)-1]
+	if !b.textual {
+		if b.appendEager(v, missing) {
+			return nil
+		}
+		b.toText()
+	}
+	if missing {
+		v = ""
+	} else {
+		v = b.keepText(v)
+	}
 	b.text = append(b.text, v)
 	return nil
 }
@@ -399,6 +505,13 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		}
 		return col, nil
 	}
+	if !b.textual {
+		if declared && kind != tabular.Numeric || !declared && len(b.eager) == countTrue(b.missing) {
+			b.toText() // every cell is missing: inferKind's categorical
+		} else {
+			return b.finishEager(col)
+		}
+	}
 	if !declared {
 		kind = b.inferKind()
 	}
@@ -450,6 +563,26 @@ func (b *columnBuilder) finish(kind tabular.Kind, declared bool, reason string) 
 		}
 		col.Numbers[i] = x
 	}
+	return col, nil
+}
+
+// finishEager finishes a numeric column read as numbers: as finish does
+// from its texts, it reports the first cell out of range or not finite and
+// counts the cells that underflowed to 0.
+func (b *columnBuilder) finishEager(col *tabular.Column) (*tabular.Column, *tabular.DataError) {
+	col.Kind = tabular.Numeric
+	for _, c := range b.odd {
+		if _, err := parseNumber(c.text); err != nil {
+			return nil, b.fail(b.base+c.i+1, err)
+		}
+		if b.eager[c.i] == 0 && underflows(c.text) {
+			if b.underflows == 0 {
+				b.firstUnderflow, b.underflowCell = b.base+c.i+1, c.text
+			}
+			b.underflows++
+		}
+	}
+	col.Numbers = b.eager
 	return col, nil
 }
 

@@ -306,3 +306,33 @@ func TestParseKind(t *testing.T) {
 		}
 	})
 }
+
+// A column's first cells read as numbers until a word shows it is text;
+// the cells read so far keep their exact text then, whatever the number
+// would print as, and a column of numbers to the end keeps none.
+func TestReadCSVNumbersThenWords(t *testing.T) {
+	cells := []string{"1.50", "007", "1e3", "2", "-0", "0.1", "12345678901234567890", "1e-400", "NA", "+4", ".5", "x", "y", "z", "w", "v", "u", "t", "s", "r", "q", "p", "o", "n", "m", "l"}
+	var text strings.Builder
+	text.WriteString("code,n\n")
+	for i, c := range cells {
+		fmt.Fprintf(&text, "%s,%d.25\n", c, i)
+	}
+	tab := fixture.ReadCSVText(t, "in.csv", text.String(), ingest.ReadOptions{})
+	code := tab.Column("code")
+	if code.Kind != tabular.Categorical {
+		t.Fatalf("code is %v, want categorical", code.Kind)
+	}
+	for i, c := range cells {
+		want := c
+		if c == "NA" {
+			want = ""
+		}
+		if code.IsMissing(i) != (c == "NA") || code.Value(i) != want {
+			t.Errorf("row %d: %q (missing %v), want %q", i+1, code.Value(i), code.IsMissing(i), want)
+		}
+	}
+	n := tab.Column("n")
+	if n.Kind != tabular.Numeric || n.Text != nil || n.Numbers[3] != 3.25 {
+		t.Errorf("n: kind %v, %d texts, row 4 %v; want numeric, no text, 3.25", n.Kind, len(n.Text), n.Numbers[3])
+	}
+}
