@@ -232,12 +232,70 @@ func (b *columnBuilder) appendEager(v string, missing bool) bool {
 	if err != nil && !errors.Is(err, strconv.ErrRange) {
 		return false
 	}
-	b.format = strconv.AppendFloat(b.format[:0], x, 'f', -1, 64)
-	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) || string(b.format) != v {
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) || !b.printsBack(v, x) {
 		b.odd = append(b.odd, oddCell{i: len(b.eager), text: strings.Clone(v)})
 	}
 	b.eager = append(b.eager, x)
 	return true
+}
+
+// printsBack reports whether strconv.FormatFloat(x, 'f', -1, 64) gives v,
+// the text x was read from: at once for a plain decimal (plainDecimal),
+// else by formatting x.
+func (b *columnBuilder) printsBack(v string, x float64) bool {
+	if plainDecimal(v) {
+		return true
+	}
+	b.format = strconv.AppendFloat(b.format[:0], x, 'f', -1, 64)
+	return string(b.format) == v
+}
+
+// plainDecimal reports whether v is a decimal that strconv.FormatFloat(x,
+// 'f', -1, 64) prints back from the float64 x nearest it: an optional
+// minus, an integer part without leading zeros, an optional fraction
+// ending in a nonzero digit, and at most 15 significant digits. Decimals
+// of at most 15 significant digits read as distinct float64s (IEEE 754
+// binary64 carries 15 decimal digits at least; DBL_DIG in C, from memory),
+// so no shorter decimal reads as x, and the shortest decimal FormatFloat
+// prints is v's digits, placed as v places them. That holds for normal
+// numbers only: v is also at most 40 bytes long, so its magnitude, if not
+// 0, is at least 1e-39, far above the smallest normal float64 (about
+// 2.2e-308), and a number too small for a float64 never passes.
+func plainDecimal(v string) bool {
+	if len(v) > 40 {
+		return false
+	}
+	i := 0
+	if i < len(v) && v[i] == '-' {
+		i++
+	}
+	start := i
+	for i < len(v) && '0' <= v[i] && v[i] <= '9' {
+		i++
+	}
+	intDigits := i - start
+	if intDigits == 0 || intDigits > 1 && v[start] == '0' {
+		return false
+	}
+	significant := intDigits
+	if v[start] == '0' {
+		significant = 0
+	}
+	if i == len(v) {
+		return significant <= 15
+	}
+	if v[i] != '.' {
+		return false
+	}
+	i++
+	fraction := i
+	for i < len(v) && '0' <= v[i] && v[i] <= '9' {
+		if v[i] != '0' || significant > 0 {
+			significant++
+		}
+		i++
+	}
+	return i == len(v) && i > fraction && v[i-1] != '0' && significant <= 15
 }
 
 // toText makes the column textual, rebuilding the texts of the cells read
