@@ -3,6 +3,7 @@ package evaluate
 import (
 	"context"
 	"fmt"
+	"math"
 	"runtime"
 	"sync"
 
@@ -112,32 +113,68 @@ func (l Learner) encode(ctx context.Context, d *tabular.Dataset, rows []int, wor
 const encodeBlock = 4096
 
 // encodeStore encodes every row of d with plan into the smallest store
-// that trains to the same bits: packed 0/1 patterns (fit.BinaryPatterns)
-// when every unit of every row is 0 or 1 (thermometer, one-hot, threshold,
-// flag and categorical units), packed a block of rows at a time so that
-// the dense patterns are never held whole; else dense patterns.
+// that trains to the same bits, a block of rows at a time so that the
+// dense patterns are never held whole when another store takes them:
+// packed 0/1 patterns (fit.BinaryPatterns) when every unit of every row is
+// 0 or 1 (thermometer, one-hot, threshold, flag and categorical units);
+// else sparse patterns (fit.SparsePatterns) when the first block shows
+// them at most half the size of dense ones (hybrid units); else dense
+// patterns.
 func encodeStore(plan *encode.Plan, d *tabular.Dataset) fit.Store {
 	n, width := d.Table.Rows, plan.Width()
-	if packed, ok := fit.NewBinaryPatterns(width, n); ok {
-		var values []float64
-		rows := make([]int, 0, encodeBlock)
-		for from := 0; from < n; from += encodeBlock {
-			rows = rows[:0]
-			for r := from; r < min(from+encodeBlock, n); r++ {
-				rows = append(rows, r)
+	if packed, ok := fit.NewBinaryPatterns(width, n); ok && encodeBlocks(plan, d, packed.Append) {
+		return packed
+	}
+	if sparse, ok := fit.NewSparsePatterns(width, n); ok {
+		first := true
+		add := func(p fit.Patterns) bool {
+			if first && !halfDense(p) {
+				return false
 			}
-			values, _ = plan.EncodeTo(values, d.Features, rows)
-			if !packed.Append(fit.Patterns{Width: width, Values: values}) {
-				packed = nil
-				break
-			}
+			first = false
+			return sparse.Append(p)
 		}
-		if packed != nil {
-			return packed
+		if encodeBlocks(plan, d, add) {
+			return sparse
 		}
 	}
 	values, _ := plan.EncodeTo(nil, d.Features, nil)
 	return fit.Patterns{Width: width, Values: values, Rows: n}
+}
+
+// encodeBlocks encodes the rows of d with plan a block at a time and
+// hands each block to add, until add refuses one; it reports whether add
+// took them all.
+func encodeBlocks(plan *encode.Plan, d *tabular.Dataset, add func(fit.Patterns) bool) bool {
+	var values []float64
+	rows := make([]int, 0, encodeBlock)
+	for from := 0; from < d.Table.Rows; from += encodeBlock {
+		rows = rows[:0]
+		for r := from; r < min(from+encodeBlock, d.Table.Rows); r++ {
+			rows = append(rows, r)
+		}
+		values, _ = plan.EncodeTo(values, d.Features, rows)
+		if !add(fit.Patterns{Width: plan.Width(), Values: values}) {
+			return false
+		}
+	}
+	return true
+}
+
+// halfDense reports whether p would take at most half its dense size as
+// fit.SparsePatterns: two bytes an input other than +0, eight more for
+// each of those other than 1, and 24 a row.
+func halfDense(p fit.Patterns) bool {
+	size := 24 * p.Len()
+	for _, v := range p.Values {
+		switch {
+		case v == 1:
+			size += 2
+		case v != 0 || math.Signbit(v):
+			size += 10
+		}
+	}
+	return 2*size <= 8*len(p.Values)
 }
 
 // classesOf returns the classes of the given rows of d.

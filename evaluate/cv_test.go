@@ -314,8 +314,9 @@ func TestSmallClassesNamesTheClass(t *testing.T) {
 	}
 }
 
-// encodeStore packs 0/1 plans a block at a time and keeps other plans
-// dense; either way each row reads back as EncodeTo writes it. Iris has
+// encodeStore packs 0/1 plans a block at a time, keeps wide hybrid plans
+// sparse and others dense; either way each row reads back as EncodeTo
+// writes it. Iris has
 // 150 rows, so blocks of encodeBlock rows are tested on a table cut to
 // fewer rows than a block and on one stacked past several blocks.
 func TestEncodeStore(t *testing.T) {
@@ -332,9 +333,11 @@ func TestEncodeStore(t *testing.T) {
 	}
 	for _, d := range []*tabular.Dataset{iris, &tall} {
 		for _, tc := range []struct {
-			numeric string
-			packed  bool
-		}{{"thermometer:8", true}, {"onehot:4", true}, {"zscore", false}, {"hybrid:4", false}} {
+			numeric, store string
+		}{
+			{"thermometer:8", "*fit.BinaryPatterns"}, {"onehot:4", "*fit.BinaryPatterns"},
+			{"hybrid:8", "*fit.SparsePatterns"}, {"zscore", "fit.Patterns"}, {"hybrid:2", "fit.Patterns"},
+		} {
 			e, err := encode.ParseNumericEncoding(tc.numeric)
 			if err != nil {
 				t.Fatal(err)
@@ -344,8 +347,8 @@ func TestEncodeStore(t *testing.T) {
 				t.Fatal(err)
 			}
 			store := encodeStore(plan, d)
-			if _, packed := store.(*fit.BinaryPatterns); packed != tc.packed {
-				t.Errorf("%s, %d rows: packed %v, want %v", tc.numeric, d.Table.Rows, packed, tc.packed)
+			if got := fmt.Sprintf("%T", store); got != tc.store {
+				t.Errorf("%s, %d rows: %s, want %s", tc.numeric, d.Table.Rows, got, tc.store)
 			}
 			want, _ := plan.EncodeTo(nil, d.Features, nil)
 			width := plan.Width()
