@@ -106,21 +106,21 @@ func (l Learner) encode(ctx context.Context, d *tabular.Dataset, rows []int, wor
 	if err := model.CheckSize(len(d.Labels), len(d.Features), plan.Width()); err != nil {
 		return nil, nil, nil, err
 	}
-	return plan, encodeStore(plan, d), choice, nil
+	return plan, EncodeStore(plan, d), choice, nil
 }
 
-// encodeBlock is the rows encodeStore encodes at a time.
+// encodeBlock is the rows EncodeStore encodes at a time.
 const encodeBlock = 4096
 
-// encodeStore encodes every row of d with plan into the smallest store
+// EncodeStore encodes every row of d with plan into the smallest store
 // that trains to the same bits, a block of rows at a time so that the
 // dense patterns are never held whole when another store takes them:
 // packed 0/1 patterns (fit.BinaryPatterns) when every unit of every row is
 // 0 or 1 (thermometer, one-hot, threshold, flag and categorical units);
 // else sparse patterns (fit.SparsePatterns) when the first block shows
 // them at most half the size of dense ones (hybrid units); else dense
-// patterns.
-func encodeStore(plan *encode.Plan, d *tabular.Dataset) fit.Store {
+// patterns. It is the store a Learner trains on.
+func EncodeStore(plan *encode.Plan, d *tabular.Dataset) fit.Store {
 	n, width := d.Table.Rows, plan.Width()
 	if packed, ok := fit.NewBinaryPatterns(width, n); ok && encodeBlocks(plan, d, packed.Append) {
 		return packed

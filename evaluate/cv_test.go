@@ -314,7 +314,7 @@ func TestSmallClassesNamesTheClass(t *testing.T) {
 	}
 }
 
-// encodeStore packs 0/1 plans a block at a time, keeps wide hybrid plans
+// EncodeStore packs 0/1 plans a block at a time, keeps wide hybrid plans
 // sparse and others dense; either way each row reads back as EncodeTo
 // writes it. Iris has
 // 150 rows, so blocks of encodeBlock rows are tested on a table cut to
@@ -346,7 +346,7 @@ func TestEncodeStore(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			store := encodeStore(plan, d)
+			store := EncodeStore(plan, d)
 			if got := fmt.Sprintf("%T", store); got != tc.store {
 				t.Errorf("%s, %d rows: %s, want %s", tc.numeric, d.Table.Rows, got, tc.store)
 			}

@@ -238,7 +238,7 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 		return nil, err
 	}
 	data = nil
-	e, err := encodeAll(d, opts)
+	e, err := encodeAll(d, opts, true)
 	if err != nil {
 		return nil, err
 	}
@@ -248,10 +248,7 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 
 	// An epoch and the fixed costs of a fit.
 	numClasses := len(d.Labels)
-	start := time.Now()
-	store := fit.Compact(e.patterns) // as evaluate trains
-	compact := time.Since(start)
-	sec("compact", compact)
+	store := e.store
 	_, r.Packed = store.(*fit.BinaryPatterns)
 	epoch, fixed, err := trainTimes(store, d.Classes, numClasses, o.epochs, o.seed)
 	if err != nil {
@@ -266,7 +263,7 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 		}
 		sec("epoch_dense", dense)
 	}
-	allFixed := fixed + e.planTime + e.encTime + compact
+	allFixed := fixed + e.planTime + e.encTime
 	sec("fixed", allFixed)
 	r.FixedVsEpoch = allFixed.Seconds() / epoch.Seconds()
 
@@ -330,11 +327,11 @@ func measureAll(o options, opts encode.Options, sizes []int) (*report, error) {
 		if err != nil {
 			return nil, err
 		}
-		se, err := encodeAll(small, opts)
+		se, err := encodeAll(small, opts, false)
 		if err != nil {
 			return nil, err
 		}
-		t, _, err := trainTimes(fit.Compact(se.patterns), small.Classes, len(small.Labels), o.epochs, o.seed)
+		t, _, err := trainTimes(se.store, small.Classes, len(small.Labels), o.epochs, o.seed)
 		if err != nil {
 			return nil, err
 		}

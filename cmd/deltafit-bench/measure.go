@@ -45,12 +45,13 @@ func best(reps int, f func() error) (time.Duration, error) {
 type encoded struct {
 	dataset  *tabular.Dataset
 	plan     *encode.Plan
-	patterns fit.Patterns
+	store    fit.Store     // the rows as deltafit fit stores them (evaluate.EncodeStore)
+	patterns fit.Patterns  // the same rows dense, for the probes; empty unless asked for
 	planTime time.Duration // fitting the plan
-	encTime  time.Duration // encoding every row
+	encTime  time.Duration // encoding every row into store
 }
 
-func encodeAll(d *tabular.Dataset, opts encode.Options) (*encoded, error) {
+func encodeAll(d *tabular.Dataset, opts encode.Options, dense bool) (*encoded, error) {
 	start := time.Now()
 	plan, err := encode.FitPlan(d.Features, nil, opts)
 	if err != nil {
@@ -58,10 +59,13 @@ func encodeAll(d *tabular.Dataset, opts encode.Options) (*encoded, error) {
 	}
 	planTime := time.Since(start)
 	start = time.Now()
-	values, _ := plan.EncodeTo(nil, d.Features, nil)
-	encTime := time.Since(start)
-	p := fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}
-	return &encoded{dataset: d, plan: plan, patterns: p, planTime: planTime, encTime: encTime}, nil
+	store := evaluate.EncodeStore(plan, d)
+	e := &encoded{dataset: d, plan: plan, store: store, planTime: planTime, encTime: time.Since(start)}
+	if dense {
+		values, _ := plan.EncodeTo(nil, d.Features, nil)
+		e.patterns = fit.Patterns{Width: plan.Width(), Values: values, Rows: d.Table.Rows}
+	}
+	return e, nil
 }
 
 // ingestTime times reading the CSV file at path into a dataset and
@@ -76,7 +80,7 @@ func ingestTime(path string, opts encode.Options) (time.Duration, error) {
 		if err != nil {
 			return err
 		}
-		_, err = encodeAll(d, opts)
+		_, err = encodeAll(d, opts, false)
 		return err
 	})
 }
