@@ -103,12 +103,24 @@ func (b *BinaryPatterns) Append(p Patterns) bool {
 			return false
 		}
 	}
-	b.active = slices.Grow(b.active, ones)
+	b.active = slices.Grow(b.active, reserve(ones, len(b.rows), p.Len(), cap(b.rows)))
 	for i := range p.Len() {
 		row := p.Row(i)
 		b.appendRow(func(k int) bool { return row[k] == 1 })
 	}
 	return true
+}
+
+// reserve returns the room to make for n more entries of a store of rows
+// patterns that is given p more: n, or on the first block of a store made
+// for capRows patterns, room for all of them at the first block's entries
+// a pattern, and an eighth more, so that a table filled block by block is
+// not copied each time its entries outgrow their slice.
+func reserve(n, rows, p, capRows int) int {
+	if rows > 0 || p == 0 || capRows <= p {
+		return n
+	}
+	return max(n, n*capRows/p*9/8)
 }
 
 // newBinaryPatterns returns BinaryPatterns of width inputs with room for

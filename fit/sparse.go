@@ -65,7 +65,8 @@ func (s *SparsePatterns) Append(p Patterns) bool {
 			}
 		}
 	}
-	s.active, s.values = slices.Grow(s.active, nonzero), slices.Grow(s.values, other)
+	s.active = slices.Grow(s.active, reserve(nonzero, len(s.rows), p.Len(), cap(s.rows)))
+	s.values = slices.Grow(s.values, reserve(other, len(s.rows), p.Len(), cap(s.rows)))
 	for i := range p.Len() {
 		s.appendRow(p.Row(i))
 	}

@@ -64,6 +64,13 @@ func (s *Summary) Add(col *tabular.Column, rows []int) {
 	if s.Kind == tabular.Categorical && s.Counts == nil {
 		s.Counts = map[string]int{}
 	}
+	if s.Kind == tabular.Numeric && s.Sketch == nil {
+		n := len(rows)
+		if rows == nil {
+			n = col.Len()
+		}
+		s.Values = slices.Grow(s.Values, n) // room for the batch at once
+	}
 	add := func(r int) {
 		switch {
 		case col.IsMissing(r):
@@ -108,7 +115,9 @@ func (s *Summary) ranks() ranks {
 	if s.Sketch != nil {
 		return s.Sketch.ranks()
 	}
-	return sortedValues(slices.Sorted(slices.Values(s.Values)))
+	sorted := slices.Clone(s.Values) // one allocation of the right size
+	slices.Sort(sorted)
+	return sortedValues(sorted)
 }
 
 // meanSD returns the mean and sample standard deviation of the present
