@@ -238,18 +238,27 @@ func (b *BinaryPatterns) AxpyRow(alpha float64, i int, y []float64) {
 // touchRow reads row i's record and the first and last of its indices.
 func (b *BinaryPatterns) touchRow(i int) uint64 {
 	r := b.rows[i]
-	x := uint64(r.start)
-	if n := int(r.ends[3]); n > 0 {
-		x ^= uint64(b.active[r.start]) ^ uint64(b.active[r.start+n-1])
+	return touchEntries(b.active, r.start, int(r.ends[3]))
+}
+
+// touchEntries reads the first and last of a packed row's n entries,
+// which start at start, and mixes them into a value the caller keeps.
+func touchEntries(active []uint16, start, n int) uint64 {
+	x := uint64(start)
+	if n > 0 {
+		x ^= uint64(active[start]) ^ uint64(active[start+n-1])
 	}
 	return x
 }
 
 // check reports whether b holds rows patterns; its values are 0 or 1, so
 // always finite.
-func (b *BinaryPatterns) check(rows int) error {
-	if b.Len() != rows {
-		return fmt.Errorf("fit: %d patterns but %d class labels", b.Len(), rows)
+func (b *BinaryPatterns) check(rows int) error { return checkCount(b.Len(), rows) }
+
+// checkCount reports whether a store of n patterns fits rows labels.
+func checkCount(n, rows int) error {
+	if n != rows {
+		return fmt.Errorf("fit: %d patterns but %d class labels", n, rows)
 	}
 	return nil
 }

@@ -135,6 +135,14 @@ func TestBinaryTrainsAsDense(t *testing.T) {
 	if !ok {
 		t.Fatal("0/1 patterns not packed")
 	}
+	trainsAsDense(t, p, b, labels)
+}
+
+// trainsAsDense checks that training on store, and on a view of it, gives
+// the Result training on the dense patterns p gives, to the bit, in every
+// mode; store holds p's patterns, of three classes.
+func trainsAsDense(t *testing.T, p Patterns, store Store, labels []int) {
+	t.Helper()
 	rows := rand.New(rand.NewPCG(7, 8)).Perm(p.Len())[:3000]
 	for _, tc := range []struct {
 		name string
@@ -153,23 +161,23 @@ func TestBinaryTrainsAsDense(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			got, err := Train(b, labels, 3, tc.opts)
+			got, err := Train(store, labels, 3, tc.opts)
 			if err != nil {
 				t.Fatal(err)
 			}
 			if resultDigest(got) != resultDigest(want) || !reflect.DeepEqual(got, want) {
-				t.Error("packed result differs from the dense store's")
+				t.Errorf("the result on %T differs from the dense store's", store)
 			}
 			viewWant, err := Train(Subset(p, rows), pick(labels, rows), 3, tc.opts)
 			if err != nil {
 				t.Fatal(err)
 			}
-			viewGot, err := Train(Subset(b, rows), pick(labels, rows), 3, tc.opts)
+			viewGot, err := Train(Subset(store, rows), pick(labels, rows), 3, tc.opts)
 			if err != nil {
 				t.Fatal(err)
 			}
 			if !reflect.DeepEqual(viewGot, viewWant) {
-				t.Error("result on a view of the packed store differs from the dense view's")
+				t.Errorf("the result on a view of %T differs from the dense view's", store)
 			}
 		})
 	}

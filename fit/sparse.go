@@ -178,18 +178,9 @@ func (s *SparsePatterns) AxpyRow(alpha float64, i int, y []float64) {
 // touchRow reads row i's record and the first and last of its inputs.
 func (s *SparsePatterns) touchRow(i int) uint64 {
 	r := s.rows[i]
-	x := uint64(r.start)
-	if n := int(r.ends[3]); n > 0 {
-		x ^= uint64(s.active[r.start]) ^ uint64(s.active[r.start+n-1])
-	}
-	return x
+	return touchEntries(s.active, r.start, int(r.ends[3]))
 }
 
 // check reports whether s holds rows patterns; Append took finite values
 // only.
-func (s *SparsePatterns) check(rows int) error {
-	if s.Len() != rows {
-		return fmt.Errorf("fit: %d patterns but %d class labels", s.Len(), rows)
-	}
-	return nil
-}
+func (s *SparsePatterns) check(rows int) error { return checkCount(s.Len(), rows) }

@@ -3,7 +3,6 @@ package fit
 import (
 	"math"
 	"math/rand/v2"
-	"reflect"
 	"testing"
 )
 
@@ -81,45 +80,7 @@ func TestSparseKernelsMatchDense(t *testing.T) {
 // store's Result to the bit, in every mode.
 func TestSparseTrainsAsDense(t *testing.T) {
 	p, labels := hybridPatterns(2*measureChunk+57, 5, 8, 3)
-	s := sparseOf(t, p)
-	rows := rand.New(rand.NewPCG(7, 8)).Perm(p.Len())[:3000]
-	for _, tc := range []struct {
-		name string
-		opts Options
-	}{
-		{"online averaged", Options{Seed: 1, Epochs: 6, KeepGoing: true}},
-		{"online last iterate linear", Options{Seed: 2, Epochs: 4, Unit: Linear, LastIterate: true, KeepGoing: true}},
-		{"online decay and l2", Options{Seed: 3, Epochs: 5, Decay: 0.1, L2: 0.01, KeepGoing: true}},
-		{"online holdout", Options{Seed: 4, Epochs: 5, Holdout: 0.2}},
-		{"batch", Options{Batch: true, Unit: Linear, Epochs: 8, KeepGoing: true}},
-		{"hebbian", Options{Rule: Hebbian{}}},
-		{"default stop rules", Options{Seed: 5}},
-	} {
-		t.Run(tc.name, func(t *testing.T) {
-			want, err := Train(p, labels, 3, tc.opts)
-			if err != nil {
-				t.Fatal(err)
-			}
-			got, err := Train(s, labels, 3, tc.opts)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if !reflect.DeepEqual(got, want) {
-				t.Error("sparse result differs from the dense store's")
-			}
-			viewWant, err := Train(Subset(p, rows), pick(labels, rows), 3, tc.opts)
-			if err != nil {
-				t.Fatal(err)
-			}
-			viewGot, err := Train(Subset(s, rows), pick(labels, rows), 3, tc.opts)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if !reflect.DeepEqual(viewGot, viewWant) {
-				t.Error("result on a view of the sparse store differs from the dense view's")
-			}
-		})
-	}
+	trainsAsDense(t, p, sparseOf(t, p), labels)
 }
 
 // Append refuses a block with a value that is not finite, or of another
