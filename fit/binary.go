@@ -178,17 +178,24 @@ func (b *BinaryPatterns) Inputs() int { return b.width }
 // returns it. It panics if i is out of range or dst is neither nil nor
 // Inputs() long.
 func (b *BinaryPatterns) RowTo(dst []float64, i int) []float64 {
-	if dst == nil {
-		dst = make([]float64, b.width)
-	}
-	if len(dst) != b.width {
-		panic(fmt.Sprintf("fit: BinaryPatterns.RowTo: dst of %d values, want %d", len(dst), b.width))
-	}
-	clear(dst)
+	dst = rowBuffer(dst, b.width, "BinaryPatterns")
 	all, _, _, _, _ := b.indices(i)
 	for _, k := range all {
 		dst[k] = 1
 	}
+	return dst
+}
+
+// rowBuffer returns dst cleared, or a new row of width zeros for a nil
+// dst, for a packed store's RowTo; it panics if dst is another length.
+func rowBuffer(dst []float64, width int, store string) []float64 {
+	if dst == nil {
+		return make([]float64, width)
+	}
+	if len(dst) != width {
+		panic(fmt.Sprintf("fit: %s.RowTo: dst of %d values, want %d", store, len(dst), width))
+	}
+	clear(dst)
 	return dst
 }
 

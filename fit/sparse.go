@@ -1,7 +1,6 @@
 package fit
 
 import (
-	"fmt"
 	"math"
 	"slices"
 )
@@ -118,13 +117,7 @@ func (s *SparsePatterns) entries(i int) (r sparseRow, active []uint16, values []
 // RowTo writes pattern i into dst (made when nil) and returns it. It
 // panics if i is out of range or dst is neither nil nor Inputs() long.
 func (s *SparsePatterns) RowTo(dst []float64, i int) []float64 {
-	if dst == nil {
-		dst = make([]float64, s.width)
-	}
-	if len(dst) != s.width {
-		panic(fmt.Sprintf("fit: SparsePatterns.RowTo: dst of %d values, want %d", len(dst), s.width))
-	}
-	clear(dst)
+	dst = rowBuffer(dst, s.width, "SparsePatterns")
 	_, active, values := s.entries(i)
 	for _, k := range active {
 		if k&valued != 0 {
