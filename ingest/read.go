@@ -75,6 +75,13 @@ type ReadOptions struct {
 	// as something other than it says (a nonzero number too small for a
 	// float64, read as 0), one per column with a count and the first row.
 	Warn func(*tabular.DataError)
+	// Source, when not nil, reads the same bytes as the reader given to
+	// NewRecordReader, at any offset (a regular file: io.NewSectionReader
+	// of it). Parquet is then read from it in place, the pages of a row
+	// group at a time, instead of whole into memory first; the reader
+	// given is read no further than its first bytes, so a caller that
+	// hashes it reads the rest itself.
+	Source *io.SectionReader
 }
 
 func (o ReadOptions) batchRows() int {
@@ -193,11 +200,14 @@ func newRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordRe
 		}
 		return newArrowStreamReader(br, opts)
 	case FormatParquet:
+		if opts.Source != nil {
+			return newParquetReader(io.NewSectionReader(opts.Source, 0, opts.Source.Size()), opts)
+		}
 		data, err := io.ReadAll(br)
 		if err != nil {
 			return nil, &tabular.DataError{File: name, Err: err}
 		}
-		return newParquetReader(data, opts)
+		return newParquetReader(bytes.NewReader(data), opts)
 	}
 	return nil, &tabular.DataError{File: name, Err: fmt.Errorf("%w: format %q", ErrUnsupported, format)}
 }
@@ -445,14 +455,18 @@ func (r *arrowFileReader) Release() {
 // newParquetReader reads a Parquet file. Page sizes are capped at
 // MaxParquetPageBytes, and a compressed page at the file's size; column
 // chunks are checked against the file's size by arrow-go.
-func newParquetReader(data []byte, opts ReadOptions) (array.RecordReader, error) {
+func newParquetReader(data parquet.ReaderAtSeeker, opts ReadOptions) (array.RecordReader, error) {
+	size, err := data.Seek(0, io.SeekEnd)
+	if err != nil {
+		return nil, &tabular.DataError{Err: err}
+	}
 	props := parquet.NewReaderProperties(opts.allocator())
-	props.MaxCompressedPageSize = min(MaxParquetPageBytes, int64(len(data)))
+	props.MaxCompressedPageSize = min(MaxParquetPageBytes, size)
 	props.MaxUncompressedPageSize = MaxParquetPageBytes
 	var rr pqarrow.RecordReader
 	var pf *file.Reader
-	err := decode(func() (err error) {
-		pf, err = file.NewParquetReader(bytes.NewReader(data), file.WithReadProps(props))
+	err = decode(func() (err error) {
+		pf, err = file.NewParquetReader(data, file.WithReadProps(props))
 		if err != nil {
 			return err
 		}

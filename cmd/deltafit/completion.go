@@ -170,6 +170,7 @@ func headerNames(cmd *cobra.Command, path string) []string {
 		return nil
 	}
 	defer f.Close()
+	opts.Source = inPlace(f)
 	rr, err := ingest.NewRecordReader(path, f, opts)
 	if err != nil {
 		return nil

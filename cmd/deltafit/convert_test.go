@@ -2,8 +2,11 @@ package main
 
 import (
 	"bytes"
+	"crypto/sha256"
 	"encoding/csv"
+	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -215,4 +218,46 @@ func sumscores(ts *testscript.TestScript, neg bool, args []string) {
 		}
 	}
 	fmt.Fprintf(ts.Stdout(), "rows %d, sums within 1e-15 of 1: %d, classes as %s: %d\n", len(norm), sums, args[1], same)
+}
+
+// Parquet in a regular file is read in place (ingest.ReadOptions.Source),
+// past the reader's first 64 KiB; the model's sha256 is still that of the
+// whole file, as sha256sum gives it.
+func TestParquetInPlaceHashesWholeFile(t *testing.T) {
+	iris, err := os.ReadFile(filepath.Join("..", "..", "testdata", "iris.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	header, rows, _ := strings.Cut(string(iris), "\n")
+	b, err := convertCSV("parquet", "tall.csv", header+"\n"+strings.Repeat(rows, 40))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(b) <= 64<<10 {
+		t.Fatalf("the Parquet file holds %d bytes, within the reader's first 64 KiB", len(b))
+	}
+	dir := t.TempDir()
+	data, model := filepath.Join(dir, "tall.parquet"), filepath.Join(dir, "m.json")
+	if err := os.WriteFile(data, b, 0o666); err != nil {
+		t.Fatal(err)
+	}
+	var stderr bytes.Buffer
+	if code := run(t.Context(), []string{"fit", data, "--target", "species", "--ignore", "id", "--epochs", "5", "-o", model}, nil, io.Discard, &stderr); code != 0 {
+		t.Fatalf("fit exited %d: %s", code, stderr.String())
+	}
+	m, err := os.ReadFile(model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got struct {
+		Data struct {
+			SHA256 string `json:"sha256"`
+		} `json:"data"`
+	}
+	if err := json.Unmarshal(m, &got); err != nil {
+		t.Fatal(err)
+	}
+	if want := fmt.Sprintf("%x", sha256.Sum256(b)); got.Data.SHA256 != want {
+		t.Errorf("the model records sha256 %s, the file's is %s", got.Data.SHA256, want)
+	}
 }

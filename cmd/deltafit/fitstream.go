@@ -319,7 +319,9 @@ func streamColumns(path string, readOpts *ingest.ReadOptions, target string, ign
 		return nil, fmt.Errorf("cannot open the data: %w", err)
 	}
 	defer f.Close()
-	rr, err := ingest.NewRecordReader(path, f, *readOpts)
+	opts := *readOpts
+	opts.Source = inPlace(f)
+	rr, err := ingest.NewRecordReader(path, f, opts)
 	if err != nil {
 		return nil, err
 	}

@@ -117,6 +117,17 @@ func (r keepingReader) Next() bool {
 	return true
 }
 
+// inPlace returns f for ingest.ReadOptions.Source when it is a regular
+// file, which Parquet is then read from in place; nil otherwise (a pipe, a
+// FIFO, a terminal).
+func inPlace(f *os.File) *io.SectionReader {
+	fi, err := f.Stat()
+	if err != nil || !fi.Mode().IsRegular() {
+		return nil
+	}
+	return io.NewSectionReader(f, 0, fi.Size())
+}
+
 // readTableKeeping reads a whole table as readTable does, keeping the
 // named columns as the input holds them; the caller releases them.
 func readTableKeeping(path string, stdin io.Reader, stderr io.Writer, opts ingest.ReadOptions, keep []string) (*tabular.Table, string, *keptColumns, error) {
@@ -134,6 +145,7 @@ func readTableKeeping(path string, stdin io.Reader, stderr io.Writer, opts inges
 		}
 		defer f.Close()
 		r, file = f, f
+		opts.Source = inPlace(f)
 	}
 	count = &countingReader{r: r, progress: newReadProgress(stderr, file)}
 	defer count.progress.finish()

@@ -49,6 +49,7 @@ func openStream(path string, stdin io.Reader, stderr, progressOut io.Writer, opt
 			return nil, fmt.Errorf("cannot open the data: %w", err)
 		}
 		s.file, s.in = f, f
+		opts.Source = inPlace(f)
 	}
 	s.count = &countingReader{r: s.in, progress: newReadProgress(progressOut, s.file)}
 	var r io.Reader = s.count
