@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"bytes"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -149,11 +150,13 @@ func readError(name string, rows int, err error) *tabular.DataError {
 //
 // Text cells are read as numbers as they come (into eager), without their
 // text, while every present cell of the column does: a numeric column
-// then never holds a string per cell. The text of a cell that
-// strconv.FormatFloat(x, 'f', -1, 64) would not give back ("1.50",
-// "1e3", an out-of-range number) is kept beside it (odd). At the first
-// present cell that is not a number, the texts of the cells before it are
-// rebuilt, exactly, and the column goes on as text (textual).
+// then never holds a string per cell. A cell whose text is what
+// strconv.FormatFloat(x, 'f', -1, 64) prints followed by zeros ("1.0",
+// "2.50") keeps the count of those zeros (pads); the text of any other
+// cell that FormatFloat would not give back ("007", "1e3", an
+// out-of-range number) is kept beside it (odd). At the first present cell
+// that is not a number, the texts of the cells before it are rebuilt,
+// exactly, and the column goes on as text (textual).
 type columnBuilder struct {
 	name    string
 	index   int // 1-based
@@ -169,6 +172,7 @@ type columnBuilder struct {
 	textual bool      // text cells are kept as text, not read as numbers
 	eager   []float64 // the numbers of the text cells held, while !textual (0 if missing)
 	odd     []oddCell // cells of eager whose text its number would not give back
+	pads    []uint8   // per cell of eager, the zeros its text adds to its number's (see padOf); nil while there are none
 	format  []byte    // FormatFloat's buffer
 	// copyText makes a text column copy its cells out of the reader's
 	// batches (keepText), for a table that outlives them.
@@ -185,7 +189,7 @@ type columnBuilder struct {
 func (b *columnBuilder) reset() {
 	b.base += len(b.missing)
 	b.text, b.numbers, b.missing = b.text[:0], b.numbers[:0], b.missing[:0]
-	b.eager, b.odd = b.eager[:0], b.odd[:0]
+	b.eager, b.odd, b.pads = b.eager[:0], b.odd[:0], b.pads[:0]
 }
 
 // oddCell is a cell read as a number whose text the number would not give
@@ -225,6 +229,9 @@ func (b *columnBuilder) keepText(v string) string {
 // inferKind counts it, and keeps its text for finishEager to report.
 func (b *columnBuilder) appendEager(v string, missing bool) bool {
 	if missing {
+		if b.pads != nil {
+			b.pads = append(b.pads, 0)
+		}
 		b.eager = append(b.eager, 0)
 		return true
 	}
@@ -232,22 +239,62 @@ func (b *columnBuilder) appendEager(v string, missing bool) bool {
 	if err != nil && !errors.Is(err, strconv.ErrRange) {
 		return false
 	}
-	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) || !b.printsBack(v, x) {
+	pad := 0
+	switch {
+	case err != nil || math.IsNaN(x) || math.IsInf(x, 0):
+		pad = -1
+	case !plainDecimal(v):
+		b.format = strconv.AppendFloat(b.format[:0], x, 'f', -1, 64)
+		pad = padOf(v, b.format)
+	}
+	switch {
+	case pad < 0:
 		b.odd = append(b.odd, oddCell{i: len(b.eager), text: strings.Clone(v)})
+	case pad > 0 && b.pads == nil:
+		b.pads = make([]uint8, len(b.eager), cap(b.eager))
+	}
+	if b.pads != nil {
+		b.pads = append(b.pads, uint8(max(pad, 0)))
 	}
 	b.eager = append(b.eager, x)
 	return true
 }
 
-// printsBack reports whether strconv.FormatFloat(x, 'f', -1, 64) gives v,
-// the text x was read from: at once for a plain decimal (plainDecimal),
-// else by formatting x.
-func (b *columnBuilder) printsBack(v string, x float64) bool {
-	if plainDecimal(v) {
-		return true
+// padOf returns how many bytes v adds after printed, the text
+// strconv.FormatFloat(x, 'f', -1, 64) gives for the number x read from v:
+// 0 when v is printed, the count of trailing zeros (up to 255) when v is
+// printed followed by zeros, after a point that printed lacks ("1.0",
+// "2.50", "3.000"), and −1 for any other text.
+func padOf(v string, printed []byte) int {
+	rest, ok := strings.CutPrefix(v, string(printed))
+	if !ok || len(rest) > 255 {
+		return -1
 	}
-	b.format = strconv.AppendFloat(b.format[:0], x, 'f', -1, 64)
-	return string(b.format) == v
+	zeros := rest
+	if bytes.IndexByte(printed, '.') < 0 {
+		if zeros, ok = strings.CutPrefix(rest, "."); !ok && rest != "" {
+			return -1
+		}
+		if ok && zeros == "" {
+			return -1 // "1." is not "1" followed by zeros
+		}
+	}
+	if strings.Trim(zeros, "0") != "" {
+		return -1
+	}
+	return len(rest)
+}
+
+// padded returns the text of a number printed as printed followed by pad
+// bytes of padOf: the point it lacks, if it lacks one, and zeros.
+func padded(printed string, pad int) string {
+	if pad == 0 {
+		return printed
+	}
+	if !strings.Contains(printed, ".") {
+		return printed + "." + strings.Repeat("0", pad-1)
+	}
+	return printed + strings.Repeat("0", pad)
 }
 
 // plainDecimal reports whether v is a decimal that strconv.FormatFloat(x,
@@ -312,10 +359,14 @@ func (b *columnBuilder) toText() {
 			b.text = append(b.text, odd[0].text)
 			odd = odd[1:]
 		default:
-			b.text = append(b.text, b.keepText(strconv.FormatFloat(x, 'f', -1, 64)))
+			pad := 0
+			if b.pads != nil {
+				pad = int(b.pads[i])
+			}
+			b.text = append(b.text, b.keepText(padded(strconv.FormatFloat(x, 'f', -1, 64), pad)))
 		}
 	}
-	b.eager, b.odd = b.eager[:0], b.odd[:0]
+	b.eager, b.odd, b.pads = b.eager[:0], b.odd[:0], b.pads[:0]
 }
 
 // kindOf returns the kind opts gives the column, whether it gives one and

@@ -2,6 +2,7 @@ package ingest
 
 import (
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"strconv"
 	"strings"
@@ -59,6 +60,37 @@ func TestPlainDecimalPrintsBack(t *testing.T) {
 	for _, v := range []string{"0.5", "-0", "123000", "3.14159", "0.000123", "999999999999999"} {
 		if !plainDecimal(v) {
 			t.Errorf("plainDecimal(%q) is false", v)
+		}
+	}
+}
+
+// padded gives back every text padOf measures, and padOf refuses what is
+// not the printed number followed by zeros.
+func TestPadOfRoundTrip(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for range 5000 {
+		x := rng.NormFloat64() * math.Pow(10, float64(rng.IntN(12)-6))
+		if rng.IntN(4) == 0 {
+			x = math.Round(x)
+		}
+		printed := strconv.FormatFloat(x, 'f', -1, 64)
+		v := printed
+		if n := rng.IntN(4); n > 0 {
+			if !strings.Contains(v, ".") {
+				v += "."
+			}
+			v += strings.Repeat("0", n)
+		}
+		pad := padOf(v, []byte(printed))
+		if pad < 0 || padded(printed, pad) != v {
+			t.Fatalf("%q after %q: pad %d gives %q", v, printed, pad, padded(printed, max(pad, 0)))
+		}
+	}
+	for _, tc := range []struct{ v, printed string }{
+		{"1.", "1"}, {"1.5x", "1.5"}, {"01", "1"}, {"1.05", "1.5"}, {"1.0.0", "1"}, {"1e0", "1"},
+	} {
+		if pad := padOf(tc.v, []byte(tc.printed)); pad >= 0 {
+			t.Errorf("padOf(%q, %q) = %d, want −1", tc.v, tc.printed, pad)
 		}
 	}
 }

@@ -311,7 +311,8 @@ func TestParseKind(t *testing.T) {
 // the cells read so far keep their exact text then, whatever the number
 // would print as, and a column of numbers to the end keeps none.
 func TestReadCSVNumbersThenWords(t *testing.T) {
-	cells := []string{"1.50", "007", "1e3", "2", "-0", "0.1", "12345678901234567890", "1e-400", "NA", "+4", ".5", "x", "y", "z", "w", "v", "u", "t", "s", "r", "q", "p", "o", "n", "m", "l"}
+	cells := []string{"1.50", "007", "1e3", "2", "-0", "0.1", "12345678901234567890", "1e-400", "NA", "+4", ".5",
+		"1.0", "3.000", "-0.0", "10.", "20.00", "1234567890123456.0", "0.10", "x", "a", "b", "c", "d", "e", "f", "g", "h", "i", "y", "z", "w", "v", "u", "t", "s", "r", "q", "p", "o", "n", "m", "l"}
 	var text strings.Builder
 	text.WriteString("code,n\n")
 	for i, c := range cells {
