@@ -65,7 +65,13 @@ func writeSyntheticCSV(w io.Writer, s shape) error {
 
 // readDataset reads CSV bytes through the project's reader into a dataset.
 func readDataset(name string, data []byte) (*tabular.Dataset, error) {
-	t, err := ingest.ReadTable(name, bytes.NewReader(data), ingest.ReadOptions{Target: targetColumn})
+	return readDatasetFrom(name, bytes.NewReader(data))
+}
+
+// readDatasetFrom reads CSV from r through the project's reader into a
+// dataset.
+func readDatasetFrom(name string, r io.Reader) (*tabular.Dataset, error) {
+	t, err := ingest.ReadTable(name, r, ingest.ReadOptions{Target: targetColumn})
 	if err != nil {
 		return nil, err
 	}

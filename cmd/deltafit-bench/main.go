@@ -394,15 +394,15 @@ func measureRSS(path string, o options) (int64, error) {
 // way deltafit fit holds a dataset in memory, then prints its peak
 // resident set (getrusage ru_maxrss, in KiB on Linux) in bytes.
 func childRSS(path string, opts encode.Options, w io.Writer) error {
-	data, err := os.ReadFile(path)
+	f, err := os.Open(path)
 	if err != nil {
 		return err
 	}
-	d, err := readDataset(path, data)
+	d, err := readDatasetFrom(path, f) // streamed from the file, as deltafit fit reads it
+	f.Close()
 	if err != nil {
 		return err
 	}
-	data = nil
 	learner := evaluate.Learner{Plan: opts, Fit: fit.Options{Epochs: 2, Stop: []fit.Converger{}}}
 	if _, err := learner.Train(d, nil); err != nil {
 		return err
