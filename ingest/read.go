@@ -157,7 +157,12 @@ var (
 func NewRecordReader(name string, r io.Reader, opts ReadOptions) (array.RecordReader, error) {
 	scope := newBatchScope(newCappedAllocator(opts.allocator(), MaxReaderBytes))
 	opts.Allocator = scope
+	// A reader that fails to open gives back what it allocated and still
+	// holds: arrow-go's Parquet reader keeps a page buffer when a column
+	// chunk names a codec it lacks.
+	scope.begin()
 	rr, err := newRecordReader(name, r, opts)
+	scope.end(err != nil)
 	if err != nil {
 		var de *tabular.DataError
 		if !errors.As(err, &de) {
