@@ -3,7 +3,6 @@ package evaluate
 import (
 	"context"
 	"fmt"
-	"math"
 	"runtime"
 	"sync"
 
@@ -113,30 +112,15 @@ func (l Learner) encode(ctx context.Context, d *tabular.Dataset, rows []int, wor
 const encodeBlock = 4096
 
 // EncodeStore encodes every row of d with plan into the smallest store
-// that trains to the same bits, a block of rows at a time so that the
-// dense patterns are never held whole when another store takes them:
-// packed 0/1 patterns (fit.BinaryPatterns) when every unit of every row is
-// 0 or 1 (thermometer, one-hot, threshold, flag and categorical units);
-// else sparse patterns (fit.SparsePatterns) when the first block shows
-// them at most half the size of dense ones (hybrid units); else dense
-// patterns. It is the store a Learner trains on.
+// that trains to the same bits: packed 0/1 patterns (fit.BinaryPatterns),
+// filled a block of rows at a time so that the dense patterns are never
+// held whole, when every unit of every row is 0 or 1 (thermometer,
+// one-hot, threshold, flag and categorical units); else dense patterns.
+// It is the store a Learner trains on.
 func EncodeStore(plan *encode.Plan, d *tabular.Dataset) fit.Store {
 	n, width := d.Table.Rows, plan.Width()
 	if packed, ok := fit.NewBinaryPatterns(width, n); ok && encodeBlocks(plan, d, packed.Append) {
 		return packed
-	}
-	if sparse, ok := fit.NewSparsePatterns(width, n); ok {
-		first := true
-		add := func(p fit.Patterns) bool {
-			if first && !halfDense(p) {
-				return false
-			}
-			first = false
-			return sparse.Append(p)
-		}
-		if encodeBlocks(plan, d, add) {
-			return sparse
-		}
 	}
 	values, _ := plan.EncodeTo(nil, d.Features, nil)
 	return fit.Patterns{Width: width, Values: values, Rows: n}
@@ -159,22 +143,6 @@ func encodeBlocks(plan *encode.Plan, d *tabular.Dataset, add func(fit.Patterns) 
 		}
 	}
 	return true
-}
-
-// halfDense reports whether p would take at most half its dense size as
-// fit.SparsePatterns: two bytes an input other than +0, eight more for
-// each of those other than 1, and 24 a row.
-func halfDense(p fit.Patterns) bool {
-	size := 24 * p.Len()
-	for _, v := range p.Values {
-		switch {
-		case v == 1:
-			size += 2
-		case v != 0 || math.Signbit(v):
-			size += 10
-		}
-	}
-	return 2*size <= 8*len(p.Values)
 }
 
 // classesOf returns the classes of the given rows of d.

@@ -314,10 +314,9 @@ func TestSmallClassesNamesTheClass(t *testing.T) {
 	}
 }
 
-// EncodeStore packs 0/1 plans a block at a time, keeps wide hybrid plans
-// sparse and others dense; either way each row reads back as EncodeTo
-// writes it. Iris has
-// 150 rows, so blocks of encodeBlock rows are tested on a table cut to
+// EncodeStore packs 0/1 plans a block at a time and keeps others dense;
+// either way each row reads back as EncodeTo writes it. Iris has 150
+// rows, so blocks of encodeBlock rows are tested on a table cut to
 // fewer rows than a block and on one stacked past several blocks.
 func TestEncodeStore(t *testing.T) {
 	iris := irisDataset(t)
@@ -336,7 +335,7 @@ func TestEncodeStore(t *testing.T) {
 			numeric, store string
 		}{
 			{"thermometer:8", "*fit.BinaryPatterns"}, {"onehot:4", "*fit.BinaryPatterns"},
-			{"hybrid:8", "*fit.SparsePatterns"}, {"zscore", "fit.Patterns"}, {"hybrid:2", "fit.Patterns"},
+			{"hybrid:8", "fit.Patterns"}, {"zscore", "fit.Patterns"},
 		} {
 			e, err := encode.ParseNumericEncoding(tc.numeric)
 			if err != nil {

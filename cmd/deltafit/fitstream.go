@@ -38,12 +38,12 @@ func (f *streamFlags) add(fs *pflag.FlagSet) {
 
 // memoryPerInputByte is how many bytes of memory an in-memory fit takes
 // per byte of its input file, for the --memory switch: measured at up to
-// 7.9 for a synthetic CSV of 8 numeric columns (71 bytes a row; 563 MB of
-// peak memory for 10^6 rows with the default auto encoding, which chooses
-// among three encodings, and 5.3 with thermometer:8; README, Performance),
-// with a margin for files of other shapes. The switch is a guard, not a
+// 20 for a synthetic CSV of 8 numeric columns (71 bytes a row; 1,419 MB of
+// peak memory for 10^6 rows with the default auto encoding, which fits
+// three encodings to choose one, and 5.0 with thermometer:8; README,
+// Performance). Files of other shapes differ; the switch is a guard, not a
 // promise.
-const memoryPerInputByte = 10
+const memoryPerInputByte = 20
 
 // parseSize reads a size such as 512MB, 4GB, 1.5GiB or 1000000 (bytes):
 // K, M, G and T with B are powers of 1000, with iB powers of 1024.
