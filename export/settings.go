@@ -103,17 +103,7 @@ func StopRule(o fit.Options) string {
 	}
 	stop := o.Stop
 	if stop == nil {
-		tolerance, patience := o.Tolerance, o.Patience
-		if tolerance == 0 {
-			tolerance = fit.DefaultTolerance
-		}
-		if patience == 0 {
-			patience = fit.DefaultPatience
-		}
-		if !o.KeepGoing {
-			stop = append(stop, fit.ZeroErrors{})
-		}
-		stop = append(stop, fit.Plateau{Tolerance: tolerance, Patience: patience, Holdout: o.Holdout > 0})
+		stop = fit.DefaultStop(o)
 	}
 	var rules []string
 	for _, rule := range stop {

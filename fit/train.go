@@ -37,6 +37,25 @@ const (
 	divergedLoss = 1e12
 )
 
+// DefaultStop returns the stop rules Train asks when o.Stop is nil:
+// ZeroErrors unless o.KeepGoing, then Plateau with o's Tolerance and
+// Patience (DefaultTolerance and DefaultPatience for 0), on the held-out
+// loss when o holds patterns out.
+func DefaultStop(o Options) []Converger {
+	tolerance, patience := o.Tolerance, o.Patience
+	if tolerance == 0 {
+		tolerance = DefaultTolerance
+	}
+	if patience == 0 {
+		patience = DefaultPatience
+	}
+	var rules []Converger
+	if !o.KeepGoing {
+		rules = append(rules, ZeroErrors{})
+	}
+	return append(rules, Plateau{Tolerance: tolerance, Patience: patience, Holdout: o.Holdout > 0})
+}
+
 // Stop reasons of a Result. A Converger of Options.Stop may give others.
 const (
 	StopZeroErrors = "zero-errors"    // ZeroErrors
@@ -101,8 +120,8 @@ type Options struct {
 
 	// Stop are the rules that may end training early, asked in order
 	// after each epoch; the first to give a reason ends it. nil means
-	// ZeroErrors{} (unless KeepGoing), then Plateau{Tolerance, Patience,
-	// Holdout > 0}. Besides them, training always ends after Epochs epochs
+	// DefaultStop(o): ZeroErrors{} (unless KeepGoing), then
+	// Plateau{Tolerance, Patience, Holdout > 0}. Besides them, training always ends after Epochs epochs
 	// (StopEpochs) and after the single epoch of a OnePass rule
 	// (StopOnePass, before any rule is asked).
 	Stop []Converger
@@ -585,10 +604,7 @@ func (o *Options) setDefaults() error {
 		return fmt.Errorf("fit: negative block size %d", o.Block)
 	}
 	if o.Stop == nil {
-		if !o.KeepGoing {
-			o.Stop = append(o.Stop, ZeroErrors{})
-		}
-		o.Stop = append(o.Stop, Plateau{Tolerance: o.Tolerance, Patience: o.Patience, Holdout: o.Holdout > 0})
+		o.Stop = DefaultStop(*o)
 	}
 	for k, rule := range o.Stop {
 		if rule == nil {

@@ -218,17 +218,9 @@ func (c *Config) rule() (fit.Rule, fit.Unit, error) {
 }
 
 // stopRules are the stop rules fit.Train uses by default with the same
-// options: ZeroErrors unless KeepGoing, then LossChange.
+// options (fit.DefaultStop).
 func (c *Config) stopRules() []fit.Converger {
-	var rules []fit.Converger
-	if !c.KeepGoing {
-		rules = append(rules, fit.ZeroErrors{})
-	}
-	tolerance := c.Tolerance
-	if tolerance == 0 {
-		tolerance = fit.DefaultTolerance
-	}
-	return append(rules, fit.Plateau{Tolerance: tolerance, Patience: fit.DefaultPatience})
+	return fit.DefaultStop(fit.Options{KeepGoing: c.KeepGoing, Tolerance: c.Tolerance})
 }
 
 // FitOptions are the options of fit.Train that train as a pipeline run in
