@@ -10,7 +10,7 @@ import (
 )
 
 // writeDisk writes p and classes to a DiskStore file in t's temp dir.
-func writeDisk(t *testing.T, p Patterns, classes []int, numClasses, blockRows int, packed bool) string {
+func writeDisk(t testing.TB, p Patterns, classes []int, numClasses, blockRows int, packed bool) string {
 	t.Helper()
 	path := filepath.Join(t.TempDir(), "patterns.dfp")
 	w, err := CreateDiskStore(path, p.Width, numClasses, blockRows, packed)
@@ -204,7 +204,7 @@ func TestBlockOrder(t *testing.T) {
 	var firstBlocks [][]int
 	for epoch := 1; epoch <= 3; epoch++ {
 		visits := rec.rows[(epoch-1)*n : epoch*n]
-		if !slices.Equal(slices.Sorted(slices.Values(visits)), allIndices(n)) {
+		if !slices.Equal(slices.Sorted(slices.Values(visits)), identity(n)) {
 			t.Fatalf("epoch %d does not visit every pattern once", epoch)
 		}
 		var blocks []int
@@ -256,34 +256,12 @@ type updateLog struct{ rows []int }
 func (u *updateLog) RecordEpoch(EpochStats) error { return nil }
 func (u *updateLog) RecordUpdate(up *Update)      { u.rows = append(u.rows, up.Row) }
 
-func allIndices(n int) []int {
-	out := make([]int, n)
-	for i := range out {
-		out[i] = i
-	}
-	return out
-}
-
 // Any file opens with an error or reads without a panic: a bad block is
 // an error of Err, a bad label one of Classes.
 func FuzzOpenDiskStore(f *testing.F) {
-	dir := f.TempDir()
 	bits, classes := thermometerPatterns(20, 2, 3, 2)
 	for _, packed := range []bool{true, false} {
-		path := filepath.Join(dir, "seed")
-		w, err := CreateDiskStore(path, bits.Width, 2, 8, packed)
-		if err != nil {
-			f.Fatal(err)
-		}
-		for i, c := range classes {
-			if err := w.Append(bits.Row(i), c); err != nil {
-				f.Fatal(err)
-			}
-		}
-		if err := w.Close(); err != nil {
-			f.Fatal(err)
-		}
-		data, err := os.ReadFile(path)
+		data, err := os.ReadFile(writeDisk(f, bits, classes, 2, 8, packed))
 		if err != nil {
 			f.Fatal(err)
 		}
