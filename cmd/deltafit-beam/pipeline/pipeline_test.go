@@ -75,6 +75,18 @@ func relDiff(a, b float64) float64 {
 	return d / math.Max(math.Max(math.Abs(a), math.Abs(b)), 1e-300)
 }
 
+// localPlan fits the plan c's encoding options give on every row of d, as
+// deltafit fit does in memory.
+func localPlan(t *testing.T, c *Config, d *tabular.Dataset) *encode.Plan {
+	t.Helper()
+	encOpts, _ := c.encodeOptions()
+	plan, err := encode.FitPlan(d.Features, nil, encOpts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return plan
+}
+
 // localFit trains fit.Train, with the options c gives it, on the rows of
 // path encoded by the plan the run s fitted on all of them.
 func localFit(t *testing.T, s *State, c *Config, path, target string) *fit.Result {
@@ -306,11 +318,7 @@ func TestBatchManyBlocks(t *testing.T) {
 		BlockRows: 16, Epochs: 40, KeepGoing: true, Tolerance: 1e-300, Trace: true}
 	s := run(t, c)
 	d := localDataset(t, filepath.Join(testdata, "iris.csv"), "species", c)
-	encOpts, _ := c.encodeOptions()
-	plan, err := encode.FitPlan(d.Features, nil, encOpts)
-	if err != nil {
-		t.Fatal(err)
-	}
+	plan := localPlan(t, c, d)
 	if !reflect.DeepEqual(s.Plans[0], plan) {
 		t.Fatalf("plan from 30 blocks differs from the local plan")
 	}
@@ -377,11 +385,7 @@ func TestStopRulesAsLocal(t *testing.T) {
 	c.Numeric = "minmax"
 	s := run(t, c)
 	d := localDataset(t, path, "y", c)
-	encOpts, _ := c.encodeOptions()
-	plan, err := encode.FitPlan(d.Features, nil, encOpts)
-	if err != nil {
-		t.Fatal(err)
-	}
+	plan := localPlan(t, c, d)
 	values, _ := plan.EncodeTo(nil, d.Features, nil)
 	opts, _ := c.FitOptions()
 	res, err := fit.Train(fit.Patterns{Width: plan.Width(), Values: values}, d.Classes, len(d.Labels), opts)
@@ -515,11 +519,7 @@ func TestSketchedPlan(t *testing.T) {
 	c := config(encode.DefaultSketchCapacity)
 	s := run(t, c)
 	d := localDataset(t, filepath.Join(testdata, "iris.csv"), "species", c)
-	encOpts, _ := c.encodeOptions()
-	exact, err := encode.FitPlan(d.Features, nil, encOpts)
-	if err != nil {
-		t.Fatal(err)
-	}
+	exact := localPlan(t, c, d)
 	if !reflect.DeepEqual(s.Plans[0], exact) || len(s.Warnings) != 0 {
 		t.Errorf("sketches larger than the columns: plan %+v, warnings %q; want the exact plan %+v and no warning", s.Plans[0], s.Warnings, exact)
 	}
@@ -567,6 +567,7 @@ func TestSketchedPlan(t *testing.T) {
 			}
 		}
 	}
+	encOpts, _ := c.encodeOptions()
 	want, err := encode.PlanFromSummaries(merged, encOpts)
 	if err != nil {
 		t.Fatal(err)
